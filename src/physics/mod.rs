@@ -1,0 +1,5 @@
+//! Physics the identifier relies on: constants, hydrogenic levels and
+//! transitions, air/vacuum wavelengths, Doppler and redshift algebra.
+
+pub mod airvac;
+pub mod constants;

@@ -1,0 +1,2 @@
+//! The batch shell: inputs -> identifier core -> JSON Lines / CSV, with
+//! worker threads, deterministic shards and a progress bar.

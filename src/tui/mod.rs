@@ -1,0 +1,2 @@
+//! The interactive review shell (ratatui + crossterm): app state, key
+//! handling, widgets, themes and the background prefetch worker.
