@@ -21,7 +21,7 @@
 
 use super::{Catalogue, Foreground, ForegroundKind, Line, LineKind, ObjectClass, Ratio, Width};
 use crate::physics::airvac::air_to_vacuum;
-use crate::physics::hydrogen::{Ion, Series};
+use crate::physics::hydrogen::{Ion, Series, member_name};
 use crate::spectrum::Medium;
 
 use LineKind::{Absorption as Abs, Both, Emission as Em};
@@ -142,7 +142,6 @@ const SO: &[ObjectClass] = &[S];
 const ROWS: &[Row] = &[
     // ---- quasar broad emission lines (rest-frame UV), vacuum ----
     vac("O VI 1034", "O VI", gf_mean(O_VI.0, O_VI.1, O_VI.2, O_VI.3), Em, 0.2, QO, Broad, Some("O VI 1032,1038"), BLEND),
-    vac("Ly-alpha broad", "H I", 1215.670, Em, 1.0, QO, Broad, Some("Lyman broad"), NIST_H),
     vac("N V 1240", "N V", gf_mean(N_V.0, N_V.1, N_V.2, N_V.3), Em, 0.3, QO, Broad, Some("N V 1239,1243"), BLEND),
     vac("Si IV+O IV] 1400", "Si IV", 1399.8, Em, 0.15, QO, Broad, None, EMPIRICAL),
     vac("C IV 1549", "C IV", gf_mean(C_IV.0, C_IV.1, C_IV.2, C_IV.3), Em, 0.6, QO, Broad, Some("C IV 1548,1551"), BLEND),
@@ -333,27 +332,26 @@ fn hydrogen_lines(out: &mut Vec<Annotated>) {
             });
         }
     }
-    // Quasar broad Balmer lines: the same laboratory wavelengths, broad.
-    for (nu, strength) in [(3, 1.0), (4, 0.4), (5, 0.15)] {
-        let Some(narrow) = out
-            .iter()
-            .find(|a| {
-                a.line.group.as_deref() == Some("Balmer")
-                    && a.line.name
-                        == crate::physics::hydrogen::member_name(Series::Balmer, nu, false)
-            })
-            .cloned()
-        else {
+    // Quasar broad lines of hydrogen: the same laboratory wavelengths, broad.
+    let broad = [
+        (Series::Lyman, 2, 1.0, "Lyman broad"),
+        (Series::Balmer, 3, 1.0, "Balmer broad"),
+        (Series::Balmer, 4, 0.4, "Balmer broad"),
+        (Series::Balmer, 5, 0.15, "Balmer broad"),
+    ];
+    for (series, nu, strength, group) in broad {
+        let name = member_name(series, nu, false);
+        let Some(narrow) = out.iter().find(|a| a.line.name == name).cloned() else {
             continue;
         };
         out.push(Annotated {
             line: Line {
-                name: format!("{} broad", narrow.line.name),
+                name: format!("{name} broad"),
                 kind: Em,
                 strength,
                 classes: vec![Q],
                 width: Broad,
-                group: Some("Balmer broad".into()),
+                group: Some(group.into()),
                 ..narrow.line
             },
             ..narrow
