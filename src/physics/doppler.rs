@@ -29,8 +29,9 @@ pub fn velocity_from_z(z: f64) -> f64 {
     if z.is_infinite() {
         return C_KM_S;
     }
-    let s = (1.0 + z) * (1.0 + z);
-    C_KM_S * (s - 1.0) / (s + 1.0)
+    // (1+z)^2 - 1 = z (2 + z), written so that small z keep full precision.
+    let q = z * (2.0 + z);
+    C_KM_S * q / (2.0 + q)
 }
 
 /// Redshift for a relativistic radial velocity `v_kms` (km/s), the inverse of
