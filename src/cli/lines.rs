@@ -13,7 +13,7 @@ use std::path::PathBuf;
 use anyhow::Context;
 use zsift::lines::{self, Catalogue, LineKind, ObjectClass, Width, builtin::Annotated};
 use zsift::physics::airvac::vacuum_to_air;
-use zsift::physics::hydrogen::{Ion, Series};
+use zsift::physics::hydrogen::{Ion, Series, greek_alias, parse_member};
 use zsift::text::clean;
 
 /// Output format.
@@ -243,6 +243,7 @@ fn lines_table(args: &Args) -> anyhow::Result<Table> {
     let (cat, annotated) = catalogue(args)?;
     let mut header = vec![
         "name",
+        "alias",
         "species",
         "wavelength_vacuum",
         "wavelength_air",
@@ -274,8 +275,16 @@ fn lines_table(args: &Args) -> anyhow::Result<Table> {
             .find(|a| a.line == *l)
             .map_or("user file", |a| a.source);
         let classes: Vec<&str> = l.classes.iter().map(|c| c.as_str()).collect();
+        let alias = if l.species == "H I" {
+            parse_member(l.name.trim_end_matches(" broad"))
+                .and_then(|(series, nu)| greek_alias(series, nu))
+                .unwrap_or_default()
+        } else {
+            String::new()
+        };
         let mut row = vec![
             clean(&l.name),
+            alias,
             clean(&l.species),
             f4(l.wavelength),
             f4(l.wavelength_air()),
@@ -295,7 +304,7 @@ fn lines_table(args: &Args) -> anyhow::Result<Table> {
     Ok(Table {
         header,
         rows,
-        csv_only: vec!["species", "classes", "source"],
+        csv_only: vec!["alias", "species", "classes", "source"],
     })
 }
 
@@ -304,6 +313,7 @@ fn series_table(args: &Args, series: Series) -> anyhow::Result<Table> {
     let nl = series.lower();
     let mut header = vec![
         "name",
+        "alias",
         "ion",
         "n_lower",
         "n_upper",
@@ -328,8 +338,15 @@ fn series_table(args: &Args, series: Series) -> anyhow::Result<Table> {
         if !in_range(args, obs) {
             continue;
         }
+        let alias = match (t.series(), t.n_upper) {
+            (Some(series), Some(nu)) if ion.name == "H" => {
+                greek_alias(series, nu).unwrap_or_default()
+            }
+            _ => String::new(),
+        };
         let mut row = vec![
             t.name(),
+            alias,
             ion.species.clone(),
             t.n_lower.to_string(),
             t.n_upper.map_or("inf".to_string(), |n| n.to_string()),
@@ -348,7 +365,7 @@ fn series_table(args: &Args, series: Series) -> anyhow::Result<Table> {
     Ok(Table {
         header,
         rows,
-        csv_only: vec![],
+        csv_only: vec!["alias"],
     })
 }
 

@@ -405,7 +405,11 @@ impl Series {
     }
 }
 
-const GREEK: [&str; 5] = ["alpha", "beta", "gamma", "delta", "epsilon"];
+/// Greek letters for the first members of a series; the trade names the
+/// first five this way and, less often, up to kappa (`H-zeta` = `H8`).
+const GREEK: [&str; 10] = [
+    "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa",
+];
 
 /// Trade name of the member `n_upper -> series.lower()`: the first five by
 /// Greek letter (`H-alpha` ... `H-epsilon`, `Ly-alpha`, `Pa-beta`, `Br-gamma`),
@@ -427,8 +431,17 @@ pub fn member_name(series: Series, n_upper: u32, deuterium: bool) -> String {
     }
 }
 
+/// The Greek-letter form of a member beyond epsilon, used as an alias
+/// (`H-zeta` for `H8`, `Pa-eta` for `Pa10`), up to theta; `None` otherwise.
+pub fn greek_alias(series: Series, n_upper: u32) -> Option<String> {
+    let k = n_upper.saturating_sub(series.lower());
+    (6..=8)
+        .contains(&k)
+        .then(|| format!("{}-{}", series.prefix(), GREEK[(k - 1) as usize]))
+}
+
 /// Parse a member name such as `H-alpha`, `Hbeta`, `Ly-gamma`, `Pa-beta`,
-/// `Br-gamma`, `H8`, `Pa10` into (series, n_upper).
+/// `Br-gamma`, `H8`, `H-zeta`, `Pa10` into (series, n_upper).
 pub fn parse_member(name: &str) -> Option<(Series, u32)> {
     let s = name.trim().replace([' ', '_'], "-");
     let lower = s.to_ascii_lowercase();
