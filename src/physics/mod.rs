@@ -2,4 +2,6 @@
 //! transitions, air/vacuum wavelengths, Doppler and redshift algebra.
 
 pub mod airvac;
+pub mod bary;
 pub mod constants;
+pub mod time;
