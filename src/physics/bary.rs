@@ -316,8 +316,8 @@ pub fn correction_at(epochs: &Epochs, site_itrs_m: [f64; 3], n: [f64; 3]) -> Bre
     ];
 
     // Site: ITRS -> true equator and equinox of date (GAST) -> GCRS.
-    let gast = erfa::time::gst06a(ut1, ut2, tt1, tt2);
     let rbpn = erfa::prenut::pn_matrix_06a(tt1, tt2);
+    let gast = erfa::time::gst06(ut1, ut2, tt1, tt2, rbpn);
     let (s, c) = gast.sin_cos();
     let [x, y, z] = site_itrs_m;
     let r_tod = [c * x - s * y, s * x + c * y, z];
@@ -651,4 +651,228 @@ fn site_position(
         }
     }
     Err(BaryError::Missing(vec![Missing::Site]))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::physics::time::parse_date;
+
+    /// A site at the geographic north pole: no rotational velocity.
+    const POLE_SITE: [f64; 3] = [0.0, 0.0, 6_356_752.3];
+
+    fn yearly(n: [f64; 3]) -> (f64, f64) {
+        let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+        for day in 0..366 {
+            let at = Instant::from_mjd(60_310.0 + day as f64, TimeScale::Utc).unwrap();
+            let v = correction_at(&Epochs::of(at), POLE_SITE, n).total_kms;
+            lo = lo.min(v);
+            hi = hi.max(v);
+        }
+        (lo, hi)
+    }
+
+    #[test]
+    fn towards_the_ecliptic_pole_the_correction_stays_near_zero_all_year() {
+        // Ecliptic north pole in ICRS: RA 270 deg, Dec 90 - 23.44 deg (obliquity
+        // 23.44 deg; common practice, no source). Earth's orbit lies in the ecliptic,
+        // so only the metre-per-second wobble from the Moon and planets remains.
+        let n = icrs_direction(270.0, 66.56, None);
+        let (lo, hi) = yearly(n);
+        assert!(lo > -0.05 && hi < 0.05, "{lo} .. {hi}");
+    }
+
+    #[test]
+    fn towards_the_ecliptic_the_annual_amplitude_is_near_thirty_kilometres_per_second() {
+        // Ecliptic point at longitude 90 deg: RA 90, Dec +23.44. Orbital speed
+        // ~29.8 km/s (common practice, no source).
+        let n = icrs_direction(90.0, 23.44, None);
+        let (lo, hi) = yearly(n);
+        let amp = (hi - lo) / 2.0;
+        assert!((29.0..30.6).contains(&amp), "amplitude {amp}");
+        assert!((hi + lo).abs() < 1.5, "{lo} .. {hi}");
+    }
+
+    #[test]
+    fn the_rotational_part_peaks_near_0_46_km_s_at_the_equator_and_vanishes_at_the_pole() {
+        // Equatorial rotation speed 2 pi R / sidereal day = 0.465 km/s (common practice, no source).
+        let at = Instant::from_mjd(60_500.3, TimeScale::Utc).unwrap();
+        let e = Epochs::of(at);
+        let equator = site_itrs(
+            &Site {
+                longitude_deg: Some(0.0),
+                latitude_deg: Some(0.0),
+                height_m: Some(0.0),
+                ..Site::default()
+            },
+            "test",
+        )
+        .unwrap()
+        .unwrap();
+        let mut max_rot: f64 = 0.0;
+        for k in 0..72 {
+            let n = icrs_direction(k as f64 * 5.0, 0.0, None);
+            max_rot = max_rot.max(correction_at(&e, equator, n).rotation_kms.abs());
+            let pole = correction_at(&e, POLE_SITE, n).rotation_kms;
+            assert!(pole.abs() < 1e-6);
+        }
+        assert!((max_rot - 0.465).abs() < 0.003, "{max_rot}");
+    }
+
+    #[test]
+    fn apply_matches_the_velocity_rule_in_astropy_documentation_for_cz_velocities() {
+        // astropy docs (radial_velocity_correction): rv_bary = rv + corr + rv*corr/c,
+        // exact when rv = c z (the form the rule is written for).
+        let c = C_M_S / 1000.0;
+        for (v_obs, corr) in [(-42.0_f64, 27.3_f64), (15_000.0, -29.9), (0.0, 0.4)] {
+            let z_b = apply(v_obs / c, corr);
+            let rule = v_obs + corr + v_obs * corr / c;
+            assert!((c * z_b - rule).abs() < 1e-8, "{} vs {rule}", c * z_b);
+        }
+        assert_eq!(apply(0.5, 0.0), 0.5);
+    }
+
+    fn meta_with(date: &str, exptime: Option<f64>) -> Metadata {
+        Metadata {
+            ra_deg: Some(10.0),
+            dec_deg: Some(-20.0),
+            date_obs: Some(date.into()),
+            exposure_s: exptime,
+            site: Site {
+                longitude_deg: Some(-40.0),
+                latitude_deg: Some(30.0),
+                height_m: Some(1500.0),
+                ..Site::default()
+            },
+            ..Metadata::default()
+        }
+    }
+
+    fn mid(meta: &Metadata) -> Instant {
+        compute(meta, &BaryOverrides::default()).unwrap().mid_utc
+    }
+
+    fn secs(i: Instant) -> f64 {
+        i.mjd_day as f64 * 86_400.0 + i.seconds
+    }
+
+    #[test]
+    fn date_obs_is_the_start_and_half_the_exposure_is_added() {
+        let m = mid(&meta_with("2024-03-01T02:00:00", Some(1800.0)));
+        let want = Instant::from_civil(parse_date("2024-03-01T02:15:00").unwrap(), TimeScale::Utc);
+        assert!((secs(m) - secs(want)).abs() < 1e-6);
+        // Without EXPTIME: the start, with a note.
+        let c = compute(
+            &meta_with("2024-03-01T02:00:00", None),
+            &BaryOverrides::default(),
+        )
+        .unwrap();
+        assert!(c.notes.iter().any(|n| n.contains("EXPTIME")));
+    }
+
+    #[test]
+    fn date_avg_wins_and_date_end_gives_the_midpoint_when_exptime_is_absent() {
+        let mut m = meta_with("2024-03-01T02:00:00", Some(1800.0));
+        m.header
+            .push(("DATE-AVG".into(), "'2024-03-01T02:20:00'".into()));
+        let want = Instant::from_civil(parse_date("2024-03-01T02:20:00").unwrap(), TimeScale::Utc);
+        assert!((secs(mid(&m)) - secs(want)).abs() < 1e-6);
+        let mut m = meta_with("2024-03-01T02:00:00", None);
+        m.header
+            .push(("DATE-END".into(), "2024-03-01T03:00:00".into()));
+        let want = Instant::from_civil(parse_date("2024-03-01T02:30:00").unwrap(), TimeScale::Utc);
+        assert!((secs(mid(&m)) - secs(want)).abs() < 1e-6);
+    }
+
+    #[test]
+    fn a_date_without_time_of_day_uses_time_obs_or_says_the_time_of_day_is_missing() {
+        let mut m = meta_with("2024-03-01", Some(0.0));
+        let err = compute(&m, &BaryOverrides::default()).unwrap_err();
+        assert_eq!(err, BaryError::Missing(vec![Missing::TimeOfDay]));
+        m.header.push(("TIME-OBS".into(), "04:05:06.5".into()));
+        let want =
+            Instant::from_civil(parse_date("2024-03-01T04:05:06.5").unwrap(), TimeScale::Utc);
+        assert!((secs(mid(&m)) - secs(want)).abs() < 1e-6);
+        // MJD-OBS is used when DATE-OBS has no time.
+        let mut m = meta_with("2024-03-01", Some(0.0));
+        m.mjd_obs = Some(60_370.25);
+        let got = mid(&m);
+        assert_eq!(got.mjd_day, 60_370);
+        assert!((got.seconds - 21_600.0).abs() < 1e-6);
+    }
+
+    #[test]
+    fn a_tt_timestamp_means_the_same_moment_as_the_utc_one_69_seconds_earlier() {
+        let utc = meta_with("2024-03-01T02:00:00", Some(0.0));
+        let mut tt = meta_with("2024-03-01T02:01:09.184", Some(0.0));
+        tt.time_scale = Some("TT".into());
+        let a = correction_kms(&utc, &BaryOverrides::default()).unwrap();
+        let b = correction_kms(&tt, &BaryOverrides::default()).unwrap();
+        assert!((a - b).abs() < 1e-9, "{a} {b}");
+    }
+
+    #[test]
+    fn bad_values_name_their_keyword() {
+        let m = meta_with("2024-03-32T00:00:00", Some(0.0));
+        match compute(&m, &BaryOverrides::default()).unwrap_err() {
+            BaryError::Invalid { keyword, .. } => assert_eq!(keyword, "DATE-OBS"),
+            e => panic!("{e}"),
+        }
+        let mut m = meta_with("2024-03-01T00:00:00", Some(0.0));
+        m.time_scale = Some("TCB".into());
+        assert!(
+            compute(&m, &BaryOverrides::default())
+                .unwrap_err()
+                .to_string()
+                .contains("TIMESYS")
+        );
+        let mut m = meta_with("2024-03-01T00:00:00", Some(0.0));
+        m.dec_deg = Some(95.0);
+        assert!(
+            compute(&m, &BaryOverrides::default())
+                .unwrap_err()
+                .to_string()
+                .contains("DEC")
+        );
+        let mut m = meta_with("2024-03-01T00:00:00", Some(0.0));
+        m.site = Site {
+            geocentric_m: Some([1000.0, 2000.0, 3000.0]),
+            ..Site::default()
+        };
+        assert!(
+            compute(&m, &BaryOverrides::default())
+                .unwrap_err()
+                .to_string()
+                .contains("OBSGEO")
+        );
+        let mut m = meta_with("2024-03-01T00:00:00", Some(-5.0));
+        m.exposure_s = Some(-5.0);
+        assert!(
+            compute(&m, &BaryOverrides::default())
+                .unwrap_err()
+                .to_string()
+                .contains("EXPTIME")
+        );
+    }
+
+    #[test]
+    fn a_site_name_is_looked_up_in_the_configured_list_or_reported_unknown() {
+        let mut m = meta_with("2024-03-01T00:00:00", Some(0.0));
+        m.site = Site {
+            name: Some("Kestrel Hill".into()),
+            ..Site::default()
+        };
+        assert_eq!(
+            compute(&m, &BaryOverrides::default()).unwrap_err(),
+            BaryError::UnknownSite("Kestrel Hill".into())
+        );
+        let ov = BaryOverrides {
+            sites: vec![("KESTREL HILL".to_string(), -40.0, 30.0, 1500.0).into()],
+            ..BaryOverrides::default()
+        };
+        let named = correction_kms(&m, &ov).unwrap();
+        let direct = correction_kms(&meta_with("2024-03-01T00:00:00", Some(0.0)), &ov).unwrap();
+        assert_eq!(named, direct);
+        assert!(find_site(&ov.sites, "nowhere").is_none());
+    }
 }

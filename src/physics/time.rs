@@ -369,7 +369,7 @@ impl Instant {
     pub fn normalised(self) -> Instant {
         let mut day = self.mjd_day;
         let mut s = self.seconds;
-        let len = if self.scale == TimeScale::Utc && s < DAY_S + 1.0 && s >= DAY_S {
+        let len = if self.scale == TimeScale::Utc && (DAY_S..DAY_S + 1.0).contains(&s) {
             let (a, _) = tai_minus_utc(day);
             let (b, _) = tai_minus_utc(day + 1);
             DAY_S + (b - a)
@@ -495,5 +495,147 @@ impl Epochs {
             tdb: tdb.jd(),
             leap_table_exact: tai_minus_utc(utc.mjd_day).1,
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn mjd_zero_is_1858_november_17_and_j2000_day_is_51544() {
+        // MJD = JD - 2400000.5 (IAU 1973 definition; MJD 0 = 1858-11-17).
+        assert_eq!(mjd_from_calendar(1858, 11, 17), 0);
+        // J2000.0 = JD 2451545.0 = 2000-01-01 12:00 TT (IAU 1976), so the day starts at MJD 51544.
+        assert_eq!(mjd_from_calendar(2000, 1, 1), 51_544);
+        // The first leap-table entry, 1972-01-01, is MJD 41317 (IERS Bulletin C).
+        assert_eq!(mjd_from_calendar(1972, 1, 1), 41_317);
+    }
+
+    #[test]
+    fn every_leap_table_entry_starts_on_a_first_of_january_or_july() {
+        // Leap seconds have so far only been inserted at the end of June or December
+        // (IERS Bulletin C), so each entry must be a 1 January or 1 July.
+        for (mjd, _) in LEAP_SECONDS {
+            let ok = (1972..=2017)
+                .any(|y| mjd == mjd_from_calendar(y, 1, 1) || mjd == mjd_from_calendar(y, 7, 1));
+            assert!(ok, "MJD {mjd}");
+        }
+        assert!(LEAP_SECONDS.windows(2).all(|w| w[1].1 == w[0].1 + 1.0));
+    }
+
+    #[test]
+    fn iso_dates_with_and_without_time_and_fractional_seconds_parse() {
+        let d = parse_date("2023-07-09").unwrap();
+        assert!(!d.has_time);
+        assert_eq!(d.mjd_day, mjd_from_calendar(2023, 7, 9));
+        let t = parse_date("2023-07-09T22:52:07.125").unwrap();
+        assert!(t.has_time);
+        assert!((t.seconds - (22.0 * 3600.0 + 52.0 * 60.0 + 7.125)).abs() < 1e-9);
+        assert_eq!(parse_date(" 2023-07-09 22:52 ").unwrap().seconds, 82_320.0);
+        assert_eq!(
+            parse_date("2023-07-09T22:52:07Z").unwrap().seconds,
+            82_327.0
+        );
+        // Old FITS form DD/MM/YY is 19YY.
+        assert_eq!(
+            parse_date("31/12/98").unwrap().mjd_day,
+            mjd_from_calendar(1998, 12, 31)
+        );
+    }
+
+    #[test]
+    fn malformed_dates_are_refused_with_the_reason() {
+        for bad in [
+            "",
+            "2023-13-01",
+            "2023-02-29",
+            "2023-07-09T25:00:00",
+            "2023-07-09T12:61",
+            "2023-07-09T12:30:60",
+            "23-07-09",
+            "2023/07/09",
+            "2023-07-09T",
+            "2023-07-09Tnoon",
+            "2023-07-09T12:00:1e3",
+        ] {
+            assert!(parse_date(bad).is_err(), "{bad:?} accepted");
+        }
+        let e = parse_date("2023-02-30").unwrap_err().to_string();
+        assert!(e.contains("day 30"), "{e}");
+        // A leap second is only possible at 23:59.
+        assert!(parse_date("2016-12-31T23:59:60.5").is_ok());
+    }
+
+    #[test]
+    fn timesys_values_map_to_scales_and_unknown_ones_are_refused() {
+        assert_eq!(TimeScale::parse(" utc ").unwrap(), TimeScale::Utc);
+        assert_eq!(TimeScale::parse("UT").unwrap(), TimeScale::Utc);
+        assert_eq!(TimeScale::parse("TDT").unwrap(), TimeScale::Tt);
+        assert_eq!(TimeScale::parse("tdb").unwrap(), TimeScale::Tdb);
+        assert_eq!(TimeScale::parse("GPS").unwrap(), TimeScale::Gps);
+        assert_eq!(TimeScale::parse("TAI").unwrap(), TimeScale::Tai);
+        for s in ["TCB", "TCG", "LOCAL", "UT1", ""] {
+            assert!(TimeScale::parse(s).is_err(), "{s}");
+        }
+    }
+
+    #[test]
+    fn tt_minus_utc_is_69_184_seconds_since_2017() {
+        // TAI-UTC = 37 s since 2017-01-01 (IERS Bulletin C) plus TT-TAI = 32.184 s.
+        let u = Instant::from_civil(parse_date("2024-05-05T10:00:00").unwrap(), TimeScale::Utc);
+        let tt = u.to_scale(TimeScale::Tt);
+        assert_eq!(tt.mjd_day, u.mjd_day);
+        assert!((tt.seconds - u.seconds - 69.184).abs() < 1e-9);
+        // GPS - UTC = 18 s since 2017 (TAI - 19 s).
+        let g = u.to_scale(TimeScale::Gps);
+        assert!((g.seconds - u.seconds - 18.0).abs() < 1e-9);
+    }
+
+    #[test]
+    fn a_leap_second_survives_the_round_trip_through_tai() {
+        let leap =
+            Instant::from_civil(parse_date("2016-12-31T23:59:60.5").unwrap(), TimeScale::Utc);
+        let tai = leap.to_scale(TimeScale::Tai);
+        // 2016-12-31 23:59:60.5 UTC = 2017-01-01 00:00:36.5 TAI (TAI-UTC was 36 s that day).
+        assert_eq!(tai.mjd_day, mjd_from_calendar(2017, 1, 1));
+        assert!((tai.seconds - 36.5).abs() < 1e-9);
+        let back = tai.to_scale(TimeScale::Utc);
+        assert_eq!(back.mjd_day, mjd_from_calendar(2016, 12, 31));
+        assert!((back.seconds - 86_400.5).abs() < 1e-9);
+        // One second later is 00:00:00.5 UTC on the new day.
+        let next = tai.plus_seconds(1.0).to_scale(TimeScale::Utc);
+        assert_eq!(next.mjd_day, mjd_from_calendar(2017, 1, 1));
+        assert!((next.seconds - 0.5).abs() < 1e-9);
+    }
+
+    #[test]
+    fn every_scale_round_trips_through_every_other() {
+        let scales = [
+            TimeScale::Utc,
+            TimeScale::Tai,
+            TimeScale::Tt,
+            TimeScale::Tdb,
+            TimeScale::Gps,
+        ];
+        for mjd in [45_000.25, 51_544.999_9, 57_753.999_95, 61_000.7] {
+            for a in scales {
+                let x = Instant::from_mjd(mjd, a).unwrap();
+                for b in scales {
+                    let y = x.to_scale(b).to_scale(a);
+                    let ds = (y.mjd_day - x.mjd_day) as f64 * DAY_S + (y.seconds - x.seconds);
+                    assert!(ds.abs() < 1e-6, "{mjd} {a}->{b}: {ds} s");
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn dates_before_1972_are_flagged_as_approximate() {
+        assert_eq!(tai_minus_utc(mjd_from_calendar(1965, 3, 1)), (10.0, false));
+        assert_eq!(tai_minus_utc(mjd_from_calendar(1972, 1, 1)), (10.0, true));
+        assert_eq!(tai_minus_utc(mjd_from_calendar(2016, 12, 31)), (36.0, true));
+        assert!(Instant::from_mjd(f64::NAN, TimeScale::Utc).is_err());
+        assert!(Instant::from_mjd(-5.0, TimeScale::Utc).is_err());
     }
 }
