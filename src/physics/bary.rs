@@ -77,7 +77,7 @@ pub const JUPITER_MEAN_DISTANCE_M: f64 = 5.2 * AU_M;
 pub const MOON_MEAN_DISTANCE_M: f64 = 3.844e8;
 
 /// One thing the correction needs that neither the file nor the user gave.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq, Eq)]
 pub enum Missing {
     /// No observation date at all (DATE-OBS, MJD-OBS, DATE-AVG, MJD-AVG).
     Time,
@@ -87,6 +87,9 @@ pub enum Missing {
     Coordinates,
     /// No observatory position (OBSGEO-X/Y/Z, geodetic lon/lat, or site name).
     Site,
+    /// Only a site name (OBSERVAT/TELESCOP or the user's), and no configured
+    /// site has that name.
+    UnconfiguredSite(String),
 }
 
 impl fmt::Display for Missing {
@@ -99,6 +102,12 @@ impl fmt::Display for Missing {
             Missing::Coordinates => "target coordinates (RA and DEC)",
             Missing::Site => {
                 "observatory site (OBSGEO-X/Y/Z, geodetic longitude/latitude, or a configured site name)"
+            }
+            Missing::UnconfiguredSite(name) => {
+                return write!(
+                    f,
+                    "observatory site ('{name}' is named but is not among the configured sites)"
+                );
             }
         })
     }
@@ -646,11 +655,136 @@ fn site_position(
             return match find_site(&ov.sites, name) {
                 Some(found) => Ok(site_itrs(&found, "configured site")?
                     .ok_or_else(|| invalid("configured site", "no coordinates"))?),
-                None => Err(BaryError::UnknownSite(name.trim().to_string())),
+                None => Err(BaryError::Missing(vec![Missing::UnconfiguredSite(
+                    name.trim().to_string(),
+                )])),
             };
         }
     }
     Err(BaryError::Missing(vec![Missing::Site]))
+}
+
+/// Parse a user-supplied site `LON,LAT[,HEIGHT]` (east longitude and
+/// geodetic latitude in degrees, height in metres above WGS84, default 0).
+pub fn parse_lonlat(text: &str) -> Result<Site, String> {
+    let v = numbers(text, 2, 3)?;
+    if !(-90.0..=90.0).contains(&v[1]) {
+        return Err(format!("latitude {} is outside -90..90", v[1]));
+    }
+    Ok(Site {
+        longitude_deg: Some(v[0]),
+        latitude_deg: Some(v[1]),
+        height_m: Some(v.get(2).copied().unwrap_or(0.0)),
+        ..Site::default()
+    })
+}
+
+/// Parse a user-supplied geocentric site `X,Y,Z` in metres (ITRS).
+pub fn parse_xyz(text: &str) -> Result<Site, String> {
+    let v = numbers(text, 3, 3)?;
+    let site = Site {
+        geocentric_m: Some([v[0], v[1], v[2]]),
+        ..Site::default()
+    };
+    site_itrs(&site, "site").map_err(|e| match e {
+        BaryError::Invalid { message, .. } => message,
+        other => other.to_string(),
+    })?;
+    Ok(site)
+}
+
+/// Parse user-supplied coordinates `RA,DEC`: decimal degrees, or sexagesimal
+/// `hh:mm:ss.s,±dd:mm:ss` (RA in hours when written with colons).
+pub fn parse_radec(text: &str) -> Result<(f64, f64), String> {
+    let parts: Vec<&str> = text.split(',').map(str::trim).collect();
+    if parts.len() != 2 {
+        return Err(format!("'{text}' is not RA,DEC"));
+    }
+    let ra = sexagesimal(parts[0])
+        .map(|(v, colons)| if colons { v * 15.0 } else { v })
+        .ok_or_else(|| format!("RA '{}' is not a number or hh:mm:ss", parts[0]))?;
+    let dec = sexagesimal(parts[1])
+        .map(|(v, _)| v)
+        .ok_or_else(|| format!("DEC '{}' is not a number or dd:mm:ss", parts[1]))?;
+    if !(0.0..360.0).contains(&ra) {
+        return Err(format!("RA {ra} degrees is outside 0..360"));
+    }
+    if !(-90.0..=90.0).contains(&dec) {
+        return Err(format!("DEC {dec} degrees is outside -90..90"));
+    }
+    Ok((ra, dec))
+}
+
+/// Parse a user-supplied observation time: an ISO 8601 date and time, or
+/// `MJD` followed by a number (e.g. `MJD60512.25`); `scale` is the clock.
+pub fn parse_time(text: &str, scale: TimeScale) -> Result<Instant, String> {
+    let t = text.trim();
+    if let Some(num) = t
+        .strip_prefix("MJD")
+        .or_else(|| t.strip_prefix("mjd"))
+        .map(|s| s.trim_start_matches([':', '=', ' ']))
+    {
+        let v: f64 = num
+            .parse()
+            .map_err(|_| format!("'{num}' after MJD is not a number"))?;
+        return Instant::from_mjd(v, scale).map_err(|e| e.to_string());
+    }
+    let c = time::parse_date(t).map_err(|e| e.to_string())?;
+    if !c.has_time {
+        return Err(format!("'{t}' has no time of day"));
+    }
+    Ok(Instant::from_civil(c, scale))
+}
+
+fn numbers(text: &str, min: usize, max: usize) -> Result<Vec<f64>, String> {
+    let v: Vec<f64> = text
+        .split(',')
+        .map(|p| {
+            p.trim()
+                .parse::<f64>()
+                .ok()
+                .filter(|x| x.is_finite())
+                .ok_or_else(|| format!("'{}' is not a number", p.trim()))
+        })
+        .collect::<Result<_, _>>()?;
+    if v.len() < min || v.len() > max {
+        return Err(format!(
+            "'{text}' should have {min}{} comma-separated numbers",
+            if max > min {
+                format!(" to {max}")
+            } else {
+                String::new()
+            }
+        ));
+    }
+    Ok(v)
+}
+
+/// A decimal or colon-separated number, and whether colons were used.
+fn sexagesimal(s: &str) -> Option<(f64, bool)> {
+    let parts: Vec<&str> = s.split(':').collect();
+    if parts.len() > 3 || parts.iter().any(|p| p.trim().is_empty()) {
+        return None;
+    }
+    let negative = s.trim_start().starts_with('-');
+    let mut total = 0.0;
+    for (k, p) in parts.iter().enumerate() {
+        let p = p.trim();
+        let p = if k == 0 {
+            p.trim_start_matches(['-', '+'])
+        } else {
+            p
+        };
+        let x: f64 = p
+            .parse()
+            .ok()
+            .filter(|x: &f64| x.is_finite() && *x >= 0.0)?;
+        if k > 0 && x >= 60.0 {
+            return None;
+        }
+        total += x / 60f64.powi(k as i32);
+    }
+    Some((if negative { -total } else { total }, parts.len() > 1))
 }
 
 #[cfg(test)]
@@ -862,10 +996,17 @@ mod tests {
             name: Some("Kestrel Hill".into()),
             ..Site::default()
         };
+        m.date_obs = None;
+        let err = compute(&m, &BaryOverrides::default()).unwrap_err();
         assert_eq!(
-            compute(&m, &BaryOverrides::default()).unwrap_err(),
-            BaryError::UnknownSite("Kestrel Hill".into())
+            err,
+            BaryError::Missing(vec![
+                Missing::Time,
+                Missing::UnconfiguredSite("Kestrel Hill".into())
+            ])
         );
+        assert!(err.to_string().contains("'Kestrel Hill'"), "{err}");
+        m.date_obs = Some("2024-03-01T00:00:00".into());
         let ov = BaryOverrides {
             sites: vec![("KESTREL HILL".to_string(), -40.0, 30.0, 1500.0).into()],
             ..BaryOverrides::default()
@@ -874,5 +1015,27 @@ mod tests {
         let direct = correction_kms(&meta_with("2024-03-01T00:00:00", Some(0.0)), &ov).unwrap();
         assert_eq!(named, direct);
         assert!(find_site(&ov.sites, "nowhere").is_none());
+    }
+    #[test]
+    fn user_site_coordinate_and_time_options_parse_or_say_why_not() {
+        let s = parse_lonlat("-40.5, 30.25, 1500").unwrap();
+        assert_eq!(
+            (s.longitude_deg, s.latitude_deg, s.height_m),
+            (Some(-40.5), Some(30.25), Some(1500.0))
+        );
+        assert_eq!(parse_lonlat("10,20").unwrap().height_m, Some(0.0));
+        assert!(parse_lonlat("10").is_err());
+        assert!(parse_lonlat("10,95").is_err());
+        assert!(parse_xyz("1000,2000,3000").is_err());
+        assert!(parse_xyz("3000000,3000000,4600000").is_ok());
+        let (ra, dec) = parse_radec("12:30:00, -45:30:00").unwrap();
+        assert!((ra - 187.5).abs() < 1e-9 && (dec + 45.5).abs() < 1e-9);
+        assert_eq!(parse_radec("187.5,-45.5").unwrap(), (187.5, -45.5));
+        assert!(parse_radec("400,0").is_err());
+        assert!(parse_radec("1,2,3").is_err());
+        let t = parse_time("MJD60512.25", TimeScale::Utc).unwrap();
+        assert_eq!((t.mjd_day, t.seconds), (60_512, 21_600.0));
+        assert!(parse_time("2024-07-01", TimeScale::Utc).is_err());
+        assert!(parse_time("2024-07-01T03:00:00", TimeScale::Utc).is_ok());
     }
 }
