@@ -6,8 +6,11 @@
 //!   series and their names.
 //! - [`airvac`]: IAU standard air (Morton 2000).
 //! - [`doppler`]: redshift <-> velocity (relativistic), composition, offsets.
+//! - [`time`] and [`bary`]: time scales and the barycentric correction.
 
 pub mod airvac;
+pub mod bary;
 pub mod constants;
 pub mod doppler;
 pub mod hydrogen;
+pub mod time;
