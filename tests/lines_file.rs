@@ -138,21 +138,17 @@ fn errors_name_the_file() {
     std::fs::remove_dir_all(&dir).unwrap();
 }
 
-#[test]
-fn arbitrary_text_never_panics() {
-    // Seeded fuzz over a small alphabet that hits quotes, commas and numbers.
-    let alphabet: Vec<char> = "ab ,\"#\n0123456789.-eairvcumbothsn\u{7}\u{e9}"
-        .chars()
-        .collect();
-    let mut s = 0x1234_5678_9abc_def1_u64;
-    for _ in 0..3000 {
-        let mut text = String::new();
-        for _ in 0..(s % 60) {
-            s ^= s << 13;
-            s ^= s >> 7;
-            s ^= s << 17;
-            text.push(alphabet[(s % alphabet.len() as u64) as usize]);
-        }
+proptest::proptest! {
+    #[test]
+    fn arbitrary_text_never_panics(text in "[ab ,\"#\n0-9.eairvcumbothsn\u{7}\u{e9}-]{0,80}") {
         let _ = parse(&text, p());
+    }
+
+    #[test]
+    fn any_valid_row_reads_back_its_wavelength(w in 100.0f64..100_000.0, air in proptest::bool::ANY) {
+        let medium = if air { "air" } else { "vacuum" };
+        let lines = parse(&format!("x, {w}, {medium}\n"), p()).unwrap();
+        let expect = if air { air_to_vacuum(w) } else { w };
+        proptest::prop_assert_eq!(lines[0].wavelength, expect);
     }
 }

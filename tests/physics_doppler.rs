@@ -123,19 +123,21 @@ fn impossible_velocities_give_nan_never_a_panic() {
     assert!(velocity_from_z(f64::NAN).is_nan());
 }
 
-#[test]
-fn velocity_and_z_are_inverse_over_a_seeded_sweep() {
-    let mut s = 0x9e37_79b9_7f4a_7c15_u64;
-    for _ in 0..5000 {
-        s ^= s << 13;
-        s ^= s >> 7;
-        s ^= s << 17;
-        let z = (s % 10_000_000) as f64 * 1e-6 - 0.9; // -0.9 .. 9.1
+proptest::proptest! {
+    #[test]
+    fn velocity_and_z_are_inverse(z in -0.95f64..12.0) {
         let v = velocity_from_z(z);
-        assert!(v.abs() < C_KM_S);
-        assert!(
-            (z_from_velocity(v) - z).abs() < 1e-9 * (1.0 + z.abs()),
-            "z={z}"
-        );
+        proptest::prop_assert!(v.abs() < C_KM_S);
+        proptest::prop_assert!((z_from_velocity(v) - z).abs() < 1e-9 * (1.0 + z.abs()));
+    }
+
+    #[test]
+    fn composition_is_associative_and_undone_by_decompose(
+        a in -0.5f64..5.0, b in -0.5f64..5.0, c in -0.5f64..5.0,
+    ) {
+        let l = compose(compose(a, b), c);
+        let r = compose(a, compose(b, c));
+        proptest::prop_assert!((l - r).abs() < 1e-12 * (1.0 + l.abs()));
+        proptest::prop_assert!((decompose(compose(a, b), a) - b).abs() < 1e-12 * (1.0 + b.abs()));
     }
 }

@@ -395,3 +395,20 @@ fn ions_and_series_parse_from_plain_names() {
     assert_eq!(Series::parse("Pa").unwrap(), Series::Paschen);
     assert!(Series::parse("Sharp").is_err());
 }
+
+proptest::proptest! {
+    #[test]
+    fn ritz_combination_holds_for_any_one_electron_ion(
+        z in 1u32..30, mass in 1.0f64..1e6, a in 1u32..40, b in 1u32..40, c in 1u32..40,
+    ) {
+        let ion = Ion::new("X", "X", z, mass).unwrap();
+        let mut n = [a, b, c];
+        n.sort_unstable();
+        proptest::prop_assume!(n[0] < n[1] && n[1] < n[2]);
+        let e = |l, u| ion.transition(l, u).unwrap().energy_ev;
+        proptest::prop_assert!(rel(e(n[0], n[1]) + e(n[1], n[2]), e(n[0], n[2])) < 1e-12);
+        // Every line of a series lies redward of its limit.
+        let lim = ion.series_limit(n[0]).unwrap().vacuum_angstrom;
+        proptest::prop_assert!(ion.transition(n[0], n[1]).unwrap().vacuum_angstrom > lim);
+    }
+}
