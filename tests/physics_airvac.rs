@@ -60,13 +60,54 @@ fn air_to_vacuum_matches_specutils_exact_and_vald_inverses() {
 }
 
 #[test]
-fn air_to_vacuum_reproduces_the_astronomy_library_documentation_example() {
-    // IDL Astronomy User's Library, AIRTOVAC documentation example: the Kr
-    // line at 6056.125 A in air is 6057.8019 A in vacuum (from memory).
+fn air_to_vacuum_reproduces_the_astronomy_library_documentation_examples() {
+    // IDL Astronomy User's Library, AIRTOVAC documentation example (Ciddor
+    // 1996 formula): the Kr line at 6056.125 A in air is 6057.8019 A in vacuum.
     assert!((air_to_vacuum(6056.125) - 6057.8019).abs() < 2e-4);
     // Same library, VACTOAIR documentation example: 2000 A vacuum is
-    // 1999.353 A in air (from memory; older formula, hence 2e-3).
+    // 1999.353 A in air.
     assert!((vacuum_to_air(2000.0) - 1999.353).abs() < 2e-3);
+}
+
+#[test]
+fn vacuum_to_air_agrees_with_other_documented_formulae_at_1e_4_angstrom() {
+    // ADAS python library documentation, adas.vacuum2air example at 5300 A:
+    // Edlen (1966) 5298.525748, Edlen (1953) 5298.525733, Ciddor (1996)
+    // 5298.525675 A. Morton (2000) is Edlen (1966) with Birch & Downs (1994)
+    // coefficients, so all agree to ~1e-4 A (0.006 km/s).
+    for documented in [5298.525_748, 5298.525_733, 5298.525_675] {
+        assert!((vacuum_to_air(5300.0) - documented).abs() < 1e-4);
+    }
+    // Python `ref_index` module documentation (Ciddor 1996 via the NIST
+    // refractive-index calculator, 15 C, 101 325 Pa, dry, 450 ppm CO2):
+    // 633.0 nm -> 632.82500477, 550.0 -> 549.84723175, 400.0 -> 399.88692724 nm.
+    for (vac_nm, air_nm) in [
+        (633.0, 632.825_004_77),
+        (550.0, 549.847_231_75),
+        (400.0, 399.886_927_24),
+    ] {
+        assert!(
+            (vacuum_to_air(vac_nm * 10.0) - air_nm * 10.0).abs() < 1e-4,
+            "{vac_nm} nm"
+        );
+    }
+}
+
+#[test]
+fn morton_differs_from_edlen_1953_by_what_the_vald_documentation_says() {
+    // VALD3 documentation, "Air-to-vacuum conversion": the Morton (2000)
+    // formula differs from Edlen (1953, JOSA 43, 339) by less than 1e-4 A at
+    // 2000 A and less than 1e-3 A at 30000 A. Edlen (1953) dispersion formula
+    // (from memory): n - 1 = 6.4328e-5 + 2.94981e-2 / (146 - s^2)
+    // + 2.5540e-4 / (41 - s^2), s in 1/um.
+    let edlen_1953 = |vac: f64| {
+        let s2 = (1.0e4 / vac).powi(2);
+        vac / (1.0 + 6.4328e-5 + 2.94981e-2 / (146.0 - s2) + 2.5540e-4 / (41.0 - s2))
+    };
+    assert!((vacuum_to_air(2000.0) - edlen_1953(2000.0)).abs() < 1e-4);
+    assert!((vacuum_to_air(30000.0) - edlen_1953(30000.0)).abs() < 1e-3);
+    // ... and the difference is not zero: these are different formulae.
+    assert!((vacuum_to_air(30000.0) - edlen_1953(30000.0)).abs() > 1e-4);
 }
 
 #[test]

@@ -57,8 +57,8 @@ pub struct Args {
     /// The ion of --series: H, D or He+.
     #[arg(long, value_name = "ION", default_value = "H", value_parser = parse_ion)]
     pub ion: Ion,
-    /// Highest upper level printed for --series.
-    #[arg(long, value_name = "N", default_value_t = 20)]
+    /// Highest upper level printed for --series (at most 1000).
+    #[arg(long, value_name = "N", default_value_t = 20, value_parser = clap::value_parser!(u32).range(2..=1000))]
     pub max_n: u32,
     /// Merge a user line list into the catalogue (same names replace
     /// built-in lines). May be given more than once.
