@@ -75,7 +75,7 @@ fn vacuum_to_air_agrees_with_other_documented_formulae_at_1e_4_angstrom() {
     // Edlen (1966) 5298.525748, Edlen (1953) 5298.525733, Ciddor (1996)
     // 5298.525675 A. Morton (2000) is Edlen (1966) with Birch & Downs (1994)
     // coefficients, so all agree to ~1e-4 A (0.006 km/s).
-    for documented in [5298.525_748, 5298.525_733, 5298.525_675] {
+    for documented in [5298.525748, 5298.525733, 5298.525675] {
         assert!((vacuum_to_air(5300.0) - documented).abs() < 1e-4);
     }
     // Python `ref_index` module documentation (Ciddor 1996 via the NIST
