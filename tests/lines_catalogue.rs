@@ -333,8 +333,8 @@ fn user_lines_merge_by_name_or_replace_the_list() {
     let mut ha = cat.line("H-alpha").unwrap().clone();
     ha.strength = 0.42;
     let mut extra = ha.clone();
-    extra.name = "[Fe X] 6375".into();
-    extra.wavelength = 6376.3;
+    extra.name = "[Fe VII] 6087".into();
+    extra.wavelength = 6088.7;
     cat.merge_lines(vec![ha, extra]);
     assert_eq!(cat.lines.len(), n + 1);
     assert_eq!(cat.line("H-alpha").unwrap().strength, 0.42);
@@ -345,7 +345,7 @@ fn user_lines_merge_by_name_or_replace_the_list() {
     );
 
     let only = vec![
-        cat.line("[Fe X] 6375").unwrap().clone(),
+        cat.line("[Fe VII] 6087").unwrap().clone(),
         cat.line("H-alpha").unwrap().clone(),
     ];
     cat.replace_lines(only);

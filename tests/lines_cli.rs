@@ -133,12 +133,12 @@ fn a_user_file_merges_with_or_replaces_the_catalogue() {
     let dir = std::env::temp_dir().join(format!("zsift-lines-cli-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let f = dir.join("coronal.lines");
-    std::fs::write(&f, "[Fe X] 6375, 6374.51, air, emission, 0.2, coronal, galaxy qso\nH-alpha, 6564.61, vacuum, both, 0.9\n").unwrap();
+    std::fs::write(&f, "[Fe VII] 6087, 6087.0, air, emission, 0.2, coronal, galaxy qso\nH-alpha, 6564.61, vacuum, both, 0.9\n").unwrap();
     let fs = f.to_str().unwrap();
     let merged = csv(&zsift(&["lines", "--format", "csv", "--file", fs]));
-    let fe = find(&merged, "[Fe X] 6375");
+    let fe = find(&merged, "[Fe VII] 6087");
     assert_eq!(fe["source"], "user file");
-    assert!((num(fe, "wavelength_air") - 6374.51).abs() < 1e-4);
+    assert!((num(fe, "wavelength_air") - 6087.0).abs() < 1e-4);
     assert!(merged.len() > 100);
     assert_eq!(find(&merged, "H-alpha")["strength"], "0.90");
     let only = csv(&zsift(&["lines", "--format", "csv", "--only-file", fs]));

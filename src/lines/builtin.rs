@@ -45,6 +45,8 @@ const NIST_AIR: &str = "NIST ASD, air (from memory)";
 const NIST_VAC: &str = "NIST ASD, vacuum (from memory)";
 const NIST_H: &str = "NIST ASD H I (from memory); Bohr+reduced mass agrees to <2e-5";
 const COMPUTED_H: &str = "computed: Bohr levels with reduced mass, CODATA 2018";
+const MORTON: &str = "Morton (2003, ApJS 149, 205), vacuum (from memory)";
+const MOLECULAR: &str = "molecular line / band head, vacuum (from memory)";
 const BLEND: &str = "gf-weighted mean of the NIST doublet (f-values from memory)";
 const EMPIRICAL: &str = "usual blend centre in quasar work (from memory)";
 const STELLAR: &str = "stellar feature centre, air (from memory)";
@@ -152,10 +154,17 @@ const ROWS: &[Row] = &[
     vac("C II] 2326", "C II]", 2326.44, Em, 0.05, QO, Broad, None, EMPIRICAL),
     vac("Mg II 2798", "Mg II", gf_mean(MG_II.0, MG_II.1, MG_II.2, MG_II.3), Em, 0.5, QO, Broad, Some("Mg II 2796,2803"), BLEND),
     // ---- interstellar / galaxy absorption in the UV, vacuum ----
+    vac("Si II 1260", "Si II", 1260.422, Abs, 0.2, GQ, Narrow, Some("ISM UV"), MORTON),
+    vac("O I 1302", "O I", 1302.168, Abs, 0.2, GQ, Narrow, Some("ISM UV"), MORTON),
+    vac("Si II 1304", "Si II", 1304.370, Abs, 0.15, GQ, Narrow, Some("ISM UV"), MORTON),
+    vac("C II 1335", "C II", 1334.532, Abs, 0.25, GQ, Narrow, Some("ISM UV"), MORTON),
     vac("Si IV 1394", "Si IV", SI_IV.0, Abs, 0.2, GQ, Narrow, Some("Si IV 1394,1403"), NIST_VAC),
     vac("Si IV 1403", "Si IV", SI_IV.2, Abs, 0.15, GQ, Narrow, Some("Si IV 1394,1403"), NIST_VAC),
+    vac("Si II 1527", "Si II", 1526.707, Abs, 0.2, GQ, Narrow, Some("ISM UV"), MORTON),
     vac("C IV 1548", "C IV", C_IV.0, Abs, 0.3, GQ, Narrow, Some("C IV 1548,1551"), NIST_VAC),
     vac("C IV 1551", "C IV", C_IV.2, Abs, 0.2, GQ, Narrow, Some("C IV 1548,1551"), NIST_VAC),
+    vac("Fe II 1608", "Fe II", 1608.451, Abs, 0.1, GQ, Narrow, Some("ISM UV"), MORTON),
+    vac("Al II 1671", "Al II", 1670.789, Abs, 0.2, GQ, Narrow, Some("ISM UV"), MORTON),
     vac("Fe II 2344", "Fe II", 2344.213, Abs, 0.2, GQ, Narrow, Some("Fe II UV"), NIST_VAC),
     vac("Fe II 2374", "Fe II", 2374.460, Abs, 0.1, GQ, Narrow, Some("Fe II UV"), NIST_VAC),
     vac("Fe II 2382", "Fe II", 2382.764, Abs, 0.3, GQ, Narrow, Some("Fe II UV"), NIST_VAC),
@@ -194,12 +203,19 @@ const ROWS: &[Row] = &[
     air("He I 6678", "He I", 6678.152, Both, 0.04, GQS, Narrow, Some("He I"), NIST_AIR),
     air("[S II] 6716", "[S II]", 6716.44, Em, 0.3, GQ, Narrow, Some("[S II] 6716,6731"), NIST_AIR),
     air("[S II] 6731", "[S II]", 6730.82, Em, 0.22, GQ, Narrow, Some("[S II] 6716,6731"), NIST_AIR),
+    air("[Fe X] 6375", "[Fe X]", 6374.51, Em, 0.02, GQ, Narrow, None, NIST_AIR),
     air("He I 7065", "He I", 7065.19, Em, 0.03, GO, Narrow, Some("He I"), NIST_AIR),
     air("He I 7281", "He I", 7281.349, Em, 0.02, GO, Narrow, Some("He I"), NIST_AIR),
     air("[Ar III] 7136", "[Ar III]", 7135.79, Em, 0.05, GO, Narrow, None, NIST_AIR),
+    air("[O II] 7320", "[O II]", 7319.99, Em, 0.03, GO, Narrow, Some("[O II] 7320,7330"), NIST_AIR),
+    air("[O II] 7330", "[O II]", 7330.73, Em, 0.03, GO, Narrow, Some("[O II] 7320,7330"), NIST_AIR),
     air("[S III] 9069", "[S III]", 9068.6, Em, 0.15, GO, Narrow, Some("[S III] 9069,9531"), NIST_AIR),
     air("[S III] 9531", "[S III]", 9530.6, Em, 0.35, GO, Narrow, Some("[S III] 9069,9531"), NIST_AIR),
     air("He I 10830", "He I", 10830.3, Both, 0.1, GQS, Narrow, Some("He I"), NIST_AIR),
+    // ---- near-infrared galaxy lines, vacuum ----
+    vac("[Fe II] 12570", "[Fe II]", 12570.2, Em, 0.05, GO, Narrow, Some("[Fe II] NIR"), NIST_VAC),
+    vac("[Fe II] 16440", "[Fe II]", 16440.0, Em, 0.05, GO, Narrow, Some("[Fe II] NIR"), NIST_VAC),
+    vac("H2 1-0 S(1)", "H2", 21218.3, Em, 0.05, GO, Narrow, None, MOLECULAR),
     // ---- stellar and galaxy absorption, air ----
     air("Ca II K", "Ca II", 3933.663, Abs, 0.9, GS, Narrow, Some("Ca II H&K"), NIST_AIR),
     air("Ca II H", "Ca II", 3968.468, Abs, 0.8, GS, Narrow, Some("Ca II H&K"), NIST_AIR),
@@ -216,6 +232,8 @@ const ROWS: &[Row] = &[
     air("Na D1", "Na I", 5895.924, Abs, 0.5, GS, Narrow, Some("Na D"), NIST_AIR),
     air("K I 7665", "K I", 7664.899, Abs, 0.2, SO, Narrow, Some("K I 7665,7699"), NIST_AIR),
     air("K I 7699", "K I", 7698.965, Abs, 0.15, SO, Narrow, Some("K I 7665,7699"), NIST_AIR),
+    air("Na I 8183", "Na I", 8183.256, Abs, 0.2, SO, Narrow, Some("Na I 8183,8195"), NIST_AIR),
+    air("Na I 8195", "Na I", 8194.824, Abs, 0.25, SO, Narrow, Some("Na I 8183,8195"), NIST_AIR),
     air("Ca II 8498", "Ca II", 8498.02, Abs, 0.5, GS, Narrow, Some("Ca II triplet"), NIST_AIR),
     air("Ca II 8542", "Ca II", 8542.09, Abs, 0.8, GS, Narrow, Some("Ca II triplet"), NIST_AIR),
     air("Ca II 8662", "Ca II", 8662.14, Abs, 0.7, GS, Narrow, Some("Ca II triplet"), NIST_AIR),
@@ -228,6 +246,7 @@ const ROWS: &[Row] = &[
     air("TiO 7054", "TiO", 7054.0, Abs, 0.7, SO, Broad, Some("TiO"), TIO),
     air("TiO 7589", "TiO", 7589.0, Abs, 0.5, SO, Broad, Some("TiO"), TIO),
     air("TiO 8432", "TiO", 8432.0, Abs, 0.4, SO, Broad, Some("TiO"), TIO),
+    vac("CO 2-0 bandhead", "CO", 22935.0, Abs, 0.5, GS, Broad, Some("CO"), MOLECULAR),
 ];
 
 /// Hydrogen laboratory wavelengths: (series lower level, upper level,
