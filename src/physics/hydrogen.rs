@@ -302,25 +302,22 @@ impl Transition {
     }
 
     /// Name in the trade's notation: `H-alpha`, `Ly-beta`, `Pa-gamma`, `H8`,
-    /// `Br10`, `Balmer limit`; `D-alpha` for deuterium; `He II 4-3` for ions
-    /// with Z > 1.
+    /// `Br10`, `Balmer limit`; `D-alpha`, `D Ly-alpha` for deuterium;
+    /// `He II 4-3` and `He II Lyman limit` (the 228 A edge) for He+, and
+    /// `<name> <upper>-<lower>` for other ions.
     pub fn name(&self) -> String {
         let series = self.series();
+        let ion = if self.ion == "He+" {
+            "He II"
+        } else {
+            self.ion.as_str()
+        };
         match (self.n_upper, series) {
-            (None, Some(s)) if self.ion == "H" => format!("{} limit", s.name()),
-            (None, Some(s)) => format!("{} {} limit", self.ion, s.name()),
-            (None, None) => format!("{} n={} limit", self.ion, self.n_lower),
-            (Some(nu), Some(s)) if self.ion == "H" || self.ion == "D" => {
-                member_name(s, nu, self.ion == "D")
-            }
-            (Some(nu), _) => {
-                let sp = if self.ion == "He+" {
-                    "He II"
-                } else {
-                    &self.ion
-                };
-                format!("{sp} {nu}-{}", self.n_lower)
-            }
+            (None, Some(s)) if ion == "H" => format!("{} limit", s.name()),
+            (None, Some(s)) => format!("{ion} {} limit", s.name()),
+            (None, None) => format!("{ion} n={} limit", self.n_lower),
+            (Some(nu), Some(s)) if ion == "H" || ion == "D" => member_name(s, nu, ion == "D"),
+            (Some(nu), _) => format!("{ion} {nu}-{}", self.n_lower),
         }
     }
 }
