@@ -109,6 +109,14 @@ fn names_with_control_characters_and_broken_quotes_are_refused() {
 }
 
 #[test]
+fn a_spreadsheet_export_with_byte_order_mark_and_crlf_reads() {
+    let text = "\u{feff}name,wavelength,medium\r\nH-beta,4861.35,air\r\n";
+    let lines = parse(text, p()).unwrap();
+    assert_eq!(lines.len(), 1);
+    assert_eq!(lines[0].name, "H-beta");
+}
+
+#[test]
 fn a_file_of_only_comments_is_an_error() {
     assert!(matches!(
         parse("# nothing\n\n   \n", p()),

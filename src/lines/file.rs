@@ -94,6 +94,8 @@ pub fn load_file(path: &Path) -> Result<Vec<Line>, LineFileError> {
 
 /// Parse line-list text; `path` is only used in error messages.
 pub fn parse(text: &str, path: &Path) -> Result<Vec<Line>, LineFileError> {
+    // Spreadsheets often start their CSV exports with a byte-order mark.
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let mut out: Vec<(Line, usize)> = Vec::new();
     for (i, raw) in text.lines().enumerate() {
         let line_no = i + 1;
