@@ -160,3 +160,22 @@ proptest::proptest! {
         proptest::prop_assert_eq!(lines[0].wavelength, expect);
     }
 }
+
+#[test]
+fn the_committed_example_list_loads_and_merges_through_assemble() {
+    let f = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/lines/example.lines");
+    let lines = load_file(&f).unwrap();
+    assert_eq!(lines.len(), 4);
+    assert_eq!(lines[2].group.as_deref(), Some("ISM UV, low ion"));
+    let base = zsift::lines::builtin();
+    let merged = zsift::lines::assemble(std::slice::from_ref(&f.to_path_buf()), None).unwrap();
+    // [Fe VII] 6087 is new; the other three replace built-in lines by name.
+    assert_eq!(merged.lines.len(), base.lines.len() + 1);
+    assert_eq!(
+        merged.line("[Fe X] 6375").unwrap().group.as_deref(),
+        Some("coronal")
+    );
+    let only = zsift::lines::assemble(&[], Some(&f)).unwrap();
+    assert_eq!(only.lines.len(), 4);
+    assert_eq!(only.foreground, base.foreground);
+}

@@ -226,17 +226,8 @@ fn in_range(args: &Args, observed_vacuum: f64) -> bool {
 
 /// Build the catalogue the options ask for, with sources where known.
 fn catalogue(args: &Args) -> anyhow::Result<(Catalogue, Vec<Annotated>)> {
-    let mut cat = lines::builtin();
-    let annotated = lines::builtin::annotated();
-    if let Some(p) = &args.only_file {
-        let user = lines::load_file(p)?;
-        cat.replace_lines(user);
-    }
-    for p in &args.file {
-        let user = lines::load_file(p)?;
-        cat.merge_lines(user);
-    }
-    Ok((cat, annotated))
+    let cat = lines::assemble(&args.file, args.only_file.as_deref())?;
+    Ok((cat, lines::builtin::annotated()))
 }
 
 fn lines_table(args: &Args) -> anyhow::Result<Table> {

@@ -18,6 +18,24 @@ pub mod file;
 pub use builtin::builtin;
 pub use file::{LineFileError, load_file};
 
+/// The catalogue a command asks for: the built-in one, its target lines
+/// replaced by the file `only` if given, then each file of `merge` merged in
+/// (same name replaces). The shells (`lines`, `scan`, `review`) share this so
+/// they read user lists the same way.
+pub fn assemble(
+    merge: &[std::path::PathBuf],
+    only: Option<&std::path::Path>,
+) -> Result<Catalogue, LineFileError> {
+    let mut cat = builtin();
+    if let Some(p) = only {
+        cat.replace_lines(load_file(p)?);
+    }
+    for p in merge {
+        cat.merge_lines(load_file(p)?);
+    }
+    Ok(cat)
+}
+
 /// Whether a line is seen in emission, absorption, or either.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
 #[serde(rename_all = "lowercase")]
