@@ -441,7 +441,7 @@ pub fn ratios() -> Vec<Ratio> {
             "[N II] 6548",
             3.05,
             (2.9, 3.2),
-            "Osterbrock & Ferland (2006); Storey & Zeippen (2000) give ~2.94",
+            "Osterbrock & Ferland (2006): ratio of A-values and photon energies",
         ),
         r(
             "[O I] 6300",
