@@ -311,6 +311,23 @@ fn a_photon_is_absorbed_only_at_the_exact_energy_of_a_level_difference() {
 }
 
 #[test]
+fn a_photon_energy_is_assigned_to_its_transition_only_when_it_matches() {
+    let h = Ion::hydrogen();
+    // 1.8887 eV is H-alpha (3 -> 2); 2.5497 eV is H-beta.
+    let t = h.transition_at(1.888_65, 1e-4, 30).unwrap();
+    assert_eq!((t.n_lower, t.n_upper), (2, Some(3)));
+    let t = h.transition_at(2.549_68, 1e-4, 30).unwrap();
+    assert_eq!(t.name(), "H-beta");
+    // 2.2 eV falls between lines: nothing.
+    assert!(h.transition_at(2.2, 1e-3, 30).is_none());
+    // 10.2 eV: Ly-alpha.
+    assert_eq!(
+        h.transition_at(10.1988, 1e-3, 30).unwrap().name(),
+        "Ly-alpha"
+    );
+}
+
+#[test]
 fn transition_energy_is_the_level_difference_and_obeys_ritz_combination() {
     // Rydberg-Ritz: E(1-3) = E(1-2) + E(2-3), and E = hc / lambda.
     for ion in [Ion::hydrogen(), Ion::deuterium(), Ion::helium_ii()] {

@@ -231,6 +231,25 @@ impl Ion {
         })
     }
 
+    /// The transition (any pair of levels up to `n_max`) whose photon energy
+    /// is closest to `photon_ev`, if it is within `tol_ev`: which line, if any,
+    /// a photon of that energy belongs to.
+    pub fn transition_at(&self, photon_ev: f64, tol_ev: f64, n_max: u32) -> Option<Transition> {
+        let mut best: Option<(f64, Transition)> = None;
+        for nl in 1..n_max {
+            for nu in nl + 1..=n_max {
+                let Ok(t) = self.transition(nl, nu) else {
+                    continue;
+                };
+                let miss = (t.energy_ev - photon_ev).abs();
+                if miss <= tol_ev && best.as_ref().is_none_or(|(m, _)| miss < *m) {
+                    best = Some((miss, t));
+                }
+            }
+        }
+        best.map(|(_, t)| t)
+    }
+
     /// Wavenumber (1/cm) of n_lower <- n_upper (`None`: the series limit).
     fn wavenumber_per_cm(&self, n_lower: u32, n_upper: Option<u32>) -> f64 {
         let z2 = f64::from(self.z).powi(2);
