@@ -97,6 +97,29 @@ fn a_redshift_adds_observed_columns_and_the_range_applies_to_them() {
 }
 
 #[test]
+fn an_air_range_selects_by_air_wavelength() {
+    // H-alpha is 6562.80 A in air and 6564.61 in vacuum (NIST ASD, from
+    // memory): an air window 6562-6563.5 holds it, the same vacuum window not.
+    let air = csv(&zsift(&[
+        "lines",
+        "--format",
+        "csv",
+        "--range",
+        "6562:6563.5",
+        "--air",
+    ]));
+    assert!(air.iter().any(|r| r["name"] == "H-alpha"));
+    let vac = csv(&zsift(&[
+        "lines",
+        "--format",
+        "csv",
+        "--range",
+        "6562:6563.5",
+    ]));
+    assert!(!vac.iter().any(|r| r["name"] == "H-alpha"));
+}
+
+#[test]
 fn the_computed_balmer_series_comes_out_with_its_limit() {
     let rows = csv(&zsift(&[
         "lines", "--series", "Balmer", "--ion", "H", "--format", "csv", "--max-n", "10",

@@ -12,7 +12,7 @@ use std::path::PathBuf;
 
 use anyhow::Context;
 use zsift::lines::{self, Catalogue, LineKind, ObjectClass, Width, builtin::Annotated};
-use zsift::physics::airvac::vacuum_to_air;
+use zsift::physics::airvac::{air_to_vacuum, vacuum_to_air};
 use zsift::physics::hydrogen::{Ion, Series, greek_alias, parse_member};
 use zsift::text::clean;
 
@@ -49,6 +49,10 @@ pub struct Args {
     /// Angstrom) lies in LO:HI.
     #[arg(long, value_name = "LO:HI", value_parser = parse_range)]
     pub range: Option<(f64, f64)>,
+    /// Read --range as standard-air wavelengths (e.g. for an air-calibrated
+    /// spectrum); they are converted to vacuum before filtering.
+    #[arg(long, requires = "range")]
+    pub air: bool,
     /// Print a computed hydrogen-like series instead of the catalogue:
     /// Lyman, Balmer, Paschen, Brackett, Pfund, Humphreys (or Ly, H, Pa, Br,
     /// Pf, Hu).
@@ -64,8 +68,9 @@ pub struct Args {
     /// built-in lines). May be given more than once.
     #[arg(long, value_name = "PATH")]
     pub file: Vec<PathBuf>,
-    /// Use only this user line list instead of the built-in lines.
-    #[arg(long, value_name = "PATH", conflicts_with = "file")]
+    /// Use only this user line list instead of the built-in lines (any
+    /// --file lists are then merged into it).
+    #[arg(long, value_name = "PATH")]
     pub only_file: Option<PathBuf>,
     /// Keep only lines seen in this class of object.
     #[arg(long, value_enum, value_name = "CLASS")]
@@ -219,9 +224,19 @@ fn f4(x: f64) -> String {
     format!("{x:.4}")
 }
 
+/// The --range limits in vacuum Angstrom.
+fn range_vacuum(args: &Args) -> Option<(f64, f64)> {
+    args.range.map(|(lo, hi)| {
+        if args.air {
+            (air_to_vacuum(lo), air_to_vacuum(hi))
+        } else {
+            (lo, hi)
+        }
+    })
+}
+
 fn in_range(args: &Args, observed_vacuum: f64) -> bool {
-    args.range
-        .is_none_or(|(lo, hi)| observed_vacuum >= lo && observed_vacuum <= hi)
+    range_vacuum(args).is_none_or(|(lo, hi)| observed_vacuum >= lo && observed_vacuum <= hi)
 }
 
 /// Build the catalogue the options ask for, with sources where known.
@@ -374,7 +389,7 @@ fn foreground_table(args: &Args) -> Table {
     let mut rows = Vec::new();
     for (f, lo_air, hi_air, source) in lines::builtin::foreground_annotated() {
         // Foreground features are observed-frame: --z does not move them.
-        if let Some((lo, hi)) = args.range {
+        if let Some((lo, hi)) = range_vacuum(args) {
             if f.hi < lo || f.lo > hi {
                 continue;
             }
