@@ -247,6 +247,21 @@ fn n_equal_1_is_the_ground_state_and_nothing_lies_below_it() {
 }
 
 #[test]
+fn extreme_quantum_numbers_give_values_or_errors_never_a_panic() {
+    let h = Ion::hydrogen();
+    assert!(h.energy_ev(u32::MAX).unwrap() < 0.0);
+    assert!(h.transition(u32::MAX - 1, u32::MAX).is_ok());
+    assert!(h.transition(u32::MAX, u32::MAX).is_err());
+    assert!(h.series(u32::MAX, 3).unwrap().is_empty());
+    assert_eq!(
+        h.absorption(u32::MAX, 1.0, 0.1, 10).unwrap(),
+        Absorption::Ionisation {
+            electron_ev: 1.0 - h.ionisation_ev(u32::MAX).unwrap()
+        }
+    );
+}
+
+#[test]
 fn a_transition_needs_its_lower_level_below_its_upper() {
     let h = Ion::hydrogen();
     assert_eq!(

@@ -189,7 +189,7 @@ impl Ion {
     /// The first `count` members of the series onto `n_lower`
     /// (n_upper = n_lower + 1, n_lower + 2, ...).
     pub fn series(&self, n_lower: u32, count: u32) -> Result<Vec<Transition>, HydrogenError> {
-        (n_lower + 1..n_lower + 1 + count)
+        (n_lower.saturating_add(1)..n_lower.saturating_add(1).saturating_add(count))
             .map(|nu| self.transition(n_lower, nu))
             .collect()
     }
@@ -215,7 +215,7 @@ impl Ion {
             });
         }
         let mut best: Option<(u32, f64)> = None;
-        for n in n_from + 1..=n_max.max(n_from + 1) {
+        for n in n_from.saturating_add(1)..=n_max {
             let de = self.energy_ev(n)? - e_from;
             let miss = (de - photon_ev).abs();
             if miss <= tol_ev && best.is_none_or(|(_, m)| miss < m) {
