@@ -208,3 +208,16 @@ fn the_readable_table_lists_lines_foreground_and_ratios() {
         String::from_utf8(zsift(&["lines", "--ratios", "--format", "csv"]).stdout).unwrap();
     assert!(ratios.contains("[O III] 5007,[O III] 4959,2.98"));
 }
+
+#[test]
+fn every_catalogue_line_appears_in_the_csv_with_its_library_values() {
+    let rows = csv(&zsift(&["lines", "--format", "csv"]));
+    let cat = zsift::lines::builtin();
+    assert_eq!(rows.len(), cat.lines.len());
+    for (row, line) in rows.iter().zip(&cat.lines) {
+        assert_eq!(row["name"], line.name);
+        assert!((num(row, "wavelength_vacuum") - line.wavelength).abs() < 6e-5);
+        assert!((num(row, "wavelength_air") - line.wavelength_air()).abs() < 6e-5);
+        assert!((num(row, "strength") - line.strength).abs() < 0.006);
+    }
+}
