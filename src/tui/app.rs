@@ -167,6 +167,13 @@ pub enum Msg {
         /// The candidate there.
         candidate: Candidate,
     },
+    /// The core could not re-measure a nudged redshift.
+    RemeasureFailed {
+        /// Queue index.
+        target: usize,
+        /// Why (shown to the person).
+        message: String,
+    },
     /// The log write of an [`Effect::Record`] finished.
     Recorded {
         /// What was written.
@@ -328,10 +335,10 @@ impl App {
     /// Effects to run at start: start at the first undecided target and ask
     /// for it and the ones after it.
     pub fn start(&mut self) -> Vec<Effect> {
-        if let Some(i) = (0..self.targets.len()).find(|i| self.decisions[*i].is_none()) {
-            self.pos = i;
-        }
-        vec![self.want()]
+        let first = (0..self.targets.len())
+            .find(|i| self.decisions[*i].is_none())
+            .unwrap_or(0);
+        self.go_to(first)
     }
 
     /// The current target's data slot.
@@ -384,7 +391,7 @@ impl App {
         if self.pos > 0 {
             v.push(self.pos - 1);
         }
-        v.retain(|i| *i < n);
+        v.retain(|i| *i < n && !matches!(self.slots.get(i), Some(Slot::Ready(_) | Slot::Failed(_))));
         Effect::Want(v)
     }
 
@@ -458,6 +465,12 @@ impl App {
                 {
                     n.candidate = Some(candidate);
                     self.line_cursor = None;
+                }
+                Vec::new()
+            }
+            Msg::RemeasureFailed { target, message } => {
+                if target == self.pos {
+                    self.say(StatusKind::Error, crate::text::clean(&message));
                 }
                 Vec::new()
             }

@@ -45,16 +45,32 @@ pub fn entries(app: &App) -> Vec<(String, String)> {
     }
 }
 
-/// Draw the footer into `area` (one row), dropping entries that do not fit.
+/// Draw the footer into `area` (one row). The last two entries (the help
+/// and quit keys in the main screen) are always shown at the right; the
+/// others fill the room left, most important first.
 pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let t = &app.theme;
+    let mut all = entries(app);
+    let keep = if app.mode == Mode::Browse { all.split_off(all.len() - 2) } else { Vec::new() };
+    let width = |e: &(String, String)| (e.0.chars().count() + e.1.chars().count() + 2) as u16;
+    let right_w: u16 = keep.iter().map(width).sum();
     let mut x = area.x;
-    for (key, label) in entries(app) {
-        let need = (key.chars().count() + label.chars().count() + 2) as u16;
-        if x + need > area.right() {
+    let limit = area.right().saturating_sub(right_w);
+    let draw = |buf: &mut Buffer, x: &mut u16, e: &(String, String)| {
+        *x += put(buf, *x, area.y, &e.0, area.right() - *x, t.style(Role::Key));
+        *x += put(buf, *x, area.y, &format!(" {} ", e.1), area.right() - *x, t.style(Role::Dim));
+    };
+    for e in &all {
+        if x + width(e) > limit {
             break;
         }
-        x += put(buf, x, area.y, &key, area.right() - x, t.style(Role::Key));
-        x += put(buf, x, area.y, &format!(" {label} "), area.right() - x, t.style(Role::Dim));
+        draw(buf, &mut x, e);
+    }
+    let mut x = limit.max(x);
+    for e in &keep {
+        if x + width(e) > area.right() {
+            break;
+        }
+        draw(buf, &mut x, e);
     }
 }

@@ -24,8 +24,8 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         return;
     }
     let head = format!(
-        "{:<13} {:>8} {:>8} {:>6} {:>5} {:>5} {:>6}",
-        "line", "rest", "observed", "dv", "S/N", "FWHM", "EW"
+        "{:<13} {:>7} {:>7} {:>5} {:>5} {:>5} {:>6}",
+        "line", "rest", "obs", "dv", "S/N", "FWHM", "EW"
     );
     put(buf, area.x, area.y + 1, &fit(&head, w, app.ascii), area.width, t.style(Role::Dim));
     let body_y = area.y + 2;
@@ -57,7 +57,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     for (row, (i, m)) in c.matched.iter().enumerate().skip(first).take(rows).enumerate() {
         let name = fit(&crate::text::clean(&m.line), 13, app.ascii);
         let line = format!(
-            "{name} {:>8.2} {:>8.2} {:>+6.0} {:>5.1} {:>5.0} {:>6.2}",
+            "{name} {:>7.1} {:>7.1} {:>+5.0} {:>5.1} {:>5.0} {:>6.1}",
             m.rest_wavelength, m.observed_wavelength, m.offset_kms, m.snr, m.fwhm_kms, m.ew
         );
         let style = if app.line_cursor == Some(i) {
