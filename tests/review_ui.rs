@@ -140,6 +140,8 @@ fn class_and_subclass_set_by_hand_are_accepted_at_the_shown_redshift() {
             subclass: Some("BAL".into()),
             candidate_rank: Some(1),
             by_hand: true,
+            grade: None,
+            lines: fx::LINES.iter().map(|l| l.0.to_string()).collect(),
         }
     );
 }

@@ -9,7 +9,7 @@
 
 use super::keys::{Action, CLASS_KEYS, Key, KeyMap, PROMPT_CANCEL, PROMPT_CONFIRM};
 use super::theme::Theme;
-use crate::identify::{Analysis, Candidate};
+use crate::identify::{Analysis, Candidate, Grade};
 use crate::lines::{Catalogue, ObjectClass};
 use crate::physics::constants::C_KM_S;
 use crate::spectrum::Spectrum;
@@ -67,6 +67,8 @@ pub enum Verdict {
     Reject,
     /// Observe again.
     Reobserve,
+    /// Observers' standing verdicts disagree (only ever read from the log).
+    Conflict,
 }
 
 /// A decision about one target, as written to the log.
@@ -87,6 +89,27 @@ pub struct Decision {
     pub candidate_rank: Option<usize>,
     /// True when the person nudged z or set the class by hand.
     pub by_hand: bool,
+    /// The candidate's trust grade, when it came from a candidate.
+    pub grade: Option<Grade>,
+    /// Names of the matched lines supporting it.
+    pub lines: Vec<String>,
+}
+
+impl Decision {
+    /// A decision with only a verdict (reject, re-observe).
+    pub fn bare(verdict: Verdict) -> Decision {
+        Decision {
+            verdict,
+            z: None,
+            z_err: None,
+            class: None,
+            subclass: None,
+            candidate_rank: None,
+            by_hand: false,
+            grade: None,
+            lines: Vec::new(),
+        }
+    }
 }
 
 /// One thing to append to the decision log.
@@ -687,15 +710,7 @@ impl App {
                 };
                 self.record(Entry::Decide {
                     target: self.pos,
-                    decision: Decision {
-                        verdict,
-                        z: None,
-                        z_err: None,
-                        class: None,
-                        subclass: None,
-                        candidate_rank: None,
-                        by_hand: false,
-                    },
+                    decision: Decision::bare(verdict),
                 })
             }
             Action::SetClass => {
@@ -856,6 +871,8 @@ impl App {
                 subclass: c.subclass.clone(),
                 candidate_rank: Some(c.rank),
                 by_hand,
+                grade: (!by_hand).then_some(c.grade),
+                lines: c.matched.iter().map(|m| m.line.clone()).collect(),
             },
         })
     }
@@ -876,6 +893,11 @@ impl App {
                 subclass: (!subclass.is_empty()).then_some(subclass),
                 candidate_rank: c.as_ref().map(|c| c.rank),
                 by_hand: true,
+                grade: None,
+                lines: c
+                    .as_ref()
+                    .map(|c| c.matched.iter().map(|m| m.line.clone()).collect())
+                    .unwrap_or_default(),
             },
         })
     }
@@ -896,6 +918,7 @@ pub fn describe(d: &Decision) -> String {
     match d.verdict {
         Verdict::Reject => "rejected".into(),
         Verdict::Reobserve => "flagged for re-observation".into(),
+        Verdict::Conflict => "in conflict between observers".into(),
         Verdict::Accept => {
             let mut s = String::from("accepted");
             if let Some(c) = d.class {

@@ -242,7 +242,7 @@ pub fn app() -> App {
 /// Deliver every waiting target, as the worker would.
 pub fn deliver(app: &mut App) {
     let waiting: Vec<usize> = (0..app.targets.len())
-        .filter(|i| matches!(app.slots.get(i), None | Some(Slot::Waiting)))
+        .filter(|i| matches!(app.slots.get(i), Some(Slot::Waiting)))
         .filter(|i| *i + 2 >= app.pos && *i <= app.pos + 3)
         .collect();
     for i in waiting {

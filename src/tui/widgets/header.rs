@@ -51,7 +51,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             match d.verdict {
                 Verdict::Accept => Role::Accepted,
                 Verdict::Reject => Role::Rejected,
-                Verdict::Reobserve => Role::Reobserve,
+                Verdict::Reobserve | Verdict::Conflict => Role::Reobserve,
             },
             describe(d).to_uppercase_first(),
         ),

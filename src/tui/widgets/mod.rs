@@ -51,7 +51,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         let [plot_area, lists] =
             Layout::vertical([Constraint::Min(6), Constraint::Length(7)]).areas(body);
         let [cands, lines] =
-            Layout::horizontal([Constraint::Fill(1), Constraint::Length(53)])
+            Layout::horizontal([Constraint::Fill(1), Constraint::Length(54)])
                 .spacing(1)
                 .areas(lists);
         plot::render(app, plot_area, buf);
