@@ -4,12 +4,16 @@
 use super::app::{Decision, Entry, Target, Verdict};
 use super::journal::Journal;
 use crate::decisions::{Fingerprint, Log, Record, Replay, Solution, Source, Status};
+use std::collections::HashMap;
 
 /// Writes the review's entries as decision-log records (`via = "review"`).
 #[derive(Debug)]
 pub struct DecisionLog {
     log: Log,
     observer: String,
+    /// Ids of the decision records written this session, per target name,
+    /// newest last: what the review's undo cancels.
+    written: HashMap<String, Vec<String>>,
 }
 
 impl DecisionLog {
@@ -18,6 +22,7 @@ impl DecisionLog {
         DecisionLog {
             log,
             observer: observer.to_string(),
+            written: HashMap::new(),
         }
     }
 
@@ -57,11 +62,12 @@ impl DecisionLog {
             },
             Entry::Note { text, .. } => Record::note(name, me, text),
             Entry::Undo { .. } => {
-                let state = self.log.target_state(name).map_err(|e| e.to_string())?;
-                let last = state
-                    .last_standing_by(me)
-                    .ok_or_else(|| format!("{name}: nothing of yours to undo"))?;
-                Record::undo(name, me, &last.id)
+                let id = self
+                    .written
+                    .get(name)
+                    .and_then(|ids| ids.last())
+                    .ok_or_else(|| format!("{name}: no decision of this session to undo"))?;
+                Record::undo(name, me, id)
             }
         };
         let r = r.with_via("review");
@@ -80,7 +86,21 @@ impl Journal for DecisionLog {
             .get(entry.target())
             .ok_or_else(|| "no such target".to_string())?;
         let record = self.record(target, entry)?;
-        self.log.append(&record).map_err(|e| e.to_string())
+        self.log.append(&record).map_err(|e| e.to_string())?;
+        match entry {
+            Entry::Decide { .. } => self
+                .written
+                .entry(target.name.clone())
+                .or_default()
+                .push(record.id),
+            Entry::Undo { .. } => {
+                if let Some(ids) = self.written.get_mut(&target.name) {
+                    ids.pop();
+                }
+            }
+            Entry::Note { .. } => {}
+        }
+        Ok(())
     }
 
     fn location(&self) -> Option<String> {

@@ -15,6 +15,7 @@
 
 pub mod app;
 pub mod config;
+pub mod decision_log;
 pub mod journal;
 pub mod keys;
 pub mod run;
