@@ -47,8 +47,9 @@ pub struct ContinuumSettings {
     pub clip_low: f64,
     /// Largest number of clip-and-refit iterations.
     pub iterations: usize,
-    /// Half-width, pixels, of the residual average also used for clipping
-    /// (catches low-contrast lines spread over many pixels). 0 disables.
+    /// Half-width, pixels, of the residual averages also used for clipping
+    /// (at this and at 4x this half-width; they catch low-contrast lines
+    /// spread over many pixels). 0 disables.
     pub smooth_half_pixels: usize,
     /// Pixels added to each side of a clipped run.
     pub grow_pixels: usize,
@@ -62,7 +63,7 @@ impl Default for ContinuumSettings {
     fn default() -> Self {
         ContinuumSettings {
             block_kms: 1500.0,
-            window_kms: 7500.0,
+            window_kms: 10_000.0,
             broad_window_kms: 36_000.0,
             quantile: 0.5,
             clip_high: 2.5,
@@ -167,6 +168,10 @@ pub fn fit(
         // 2. Running medians of the block levels.
         running_median(&level, h_narrow, &mut narrow, &mut win);
         running_median(&level, h_broad, &mut broad, &mut win);
+        // A running mean of the running medians: medians resist lines, the
+        // mean then removes most of their extra noise.
+        running_mean(&mut narrow, h_narrow.div_ceil(2), &mut win);
+        running_mean(&mut broad, h_broad.div_ceil(2), &mut win);
         // 3. Combine.
         let mut node_u: Vec<f64> = Vec::with_capacity(nb);
         let mut node_v: Vec<f64> = Vec::with_capacity(nb);
@@ -174,7 +179,7 @@ pub fn fit(
             let v = match (narrow[b], broad[b]) {
                 (Some(cn), Some(cb)) if settings.adaptive => {
                     let e = level_err[b] / ((2 * h_narrow + 1) as f64).sqrt();
-                    let thr = (4.0 * e).max(0.02 * cb.abs());
+                    let thr = (3.0 * e).max(0.02 * cb.abs());
                     let d = cn - cb;
                     if d > thr && thr > 0.0 {
                         let w = ((d - thr) / thr).clamp(0.0, 1.0);
@@ -253,9 +258,13 @@ fn update_clips(
         }
         let r = resid[i] / var[i].sqrt();
         let mut bad = r > s.clip_high || r < -s.clip_low;
-        if !bad && h > 0 {
-            let lo = i.saturating_sub(h);
-            let hi = (i + h + 1).min(n);
+        // The residual averaged at two scales (h and 4h pixels either side).
+        for hh in [h, 4 * h] {
+            if bad || hh == 0 {
+                break;
+            }
+            let lo = i.saturating_sub(hh);
+            let hi = (i + hh + 1).min(n);
             let sv = pv[hi] - pv[lo];
             if sv > 0.0 {
                 let rs = (pr[hi] - pr[lo]) / sv.sqrt();
@@ -331,6 +340,31 @@ fn running_median(v: &[Option<f64>], h: usize, out: &mut [Option<f64>], win: &mu
         } else {
             Some(median_in_place(win))
         };
+    }
+}
+
+/// Running mean of the valid entries of `v` over `[b-h, b+h]`, in place.
+fn running_mean(v: &mut [Option<f64>], h: usize, tmp: &mut Vec<f64>) {
+    if h == 0 {
+        return;
+    }
+    let nb = v.len();
+    tmp.clear();
+    tmp.extend(v.iter().map(|x| x.unwrap_or(f64::NAN)));
+    for b in 0..nb {
+        if v[b].is_none() {
+            continue;
+        }
+        let lo = b.saturating_sub(h);
+        let hi = (b + h + 1).min(nb);
+        let (mut s, mut k) = (0.0, 0usize);
+        for &x in &tmp[lo..hi] {
+            if !x.is_nan() {
+                s += x;
+                k += 1;
+            }
+        }
+        v[b] = Some(s / k as f64);
     }
 }
 
