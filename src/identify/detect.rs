@@ -328,6 +328,7 @@ pub fn find(
 
     // 3. Merge across widths: strongest first.
     cands.sort_by(|a, b| b.snr.total_cmp(&a.snr));
+    let all = cands.clone();
     let mut acc: Vec<Cand> = Vec::new();
     for c in cands {
         // What the accepted features of the same sign already put into this
@@ -343,6 +344,20 @@ pub fn find(
         }
         let excess = c.snr - explained;
         if !dup && excess >= settings.snr_threshold && c.snr >= 1.3 * explained {
+            // A broad peak that narrower filters see as separate lines is a
+            // blend: keep the lines instead.
+            if let Some(parts) = blend_parts(&c, &all, settings.snr_threshold, res_kms) {
+                for p in parts {
+                    let taken = acc.iter().any(|a| {
+                        a.sign == p.sign
+                            && (a.lambda - p.lambda).abs() < 0.5 * a.sigma_a.max(p.sigma_a)
+                    });
+                    if !taken {
+                        acc.push(p);
+                    }
+                }
+                continue;
+            }
             acc.push(c);
             if acc.len() >= settings.max_features {
                 break;
@@ -516,6 +531,66 @@ struct Cand {
     snr: f64,
     amp: f64,
     sign: f64,
+}
+
+/// The narrower-filter peaks that split candidate `c` into a blend: at one
+/// narrower width, at least two peaks of the same sign within `1.5` sigmas
+/// of `c`, each of S/N at least `max(threshold, 0.3 c.snr)`, pairwise at
+/// least `2.5` filter sigmas apart. A single Gaussian line gives one peak
+/// at every narrower width, so two such peaks are two lines. The width with
+/// most peaks (then the highest summed S/N) wins; `None` when no width
+/// qualifies or `c` is broader than 4.5 resolution elements.
+fn blend_parts(c: &Cand, all: &[Cand], threshold: f64, res_kms: f64) -> Option<Vec<Cand>> {
+    // Only narrow blends: a broad line (a quasar's) is one line even where
+    // noise dents it.
+    if c.fwhm_kms > 4.5 * res_kms {
+        return None;
+    }
+    let floor = threshold.max(0.3 * c.snr);
+    let mut best: Option<Vec<Cand>> = None;
+    let mut widths: Vec<f64> = all
+        .iter()
+        .filter(|p| p.fwhm_kms < 0.99 * c.fwhm_kms)
+        .map(|p| p.fwhm_kms)
+        .collect();
+    widths.sort_by(f64::total_cmp);
+    widths.dedup();
+    for w in widths {
+        let mut parts: Vec<Cand> = all
+            .iter()
+            .filter(|p| {
+                p.fwhm_kms == w
+                    && p.sign == c.sign
+                    && p.snr >= floor
+                    && (p.lambda - c.lambda).abs() < 1.5 * c.sigma_a
+            })
+            .copied()
+            .collect();
+        if parts.len() < 2 {
+            continue;
+        }
+        parts.sort_by(|a, b| a.lambda.total_cmp(&b.lambda));
+        let apart = parts
+            .windows(2)
+            .all(|q| q[1].lambda - q[0].lambda >= 2.5 * q[0].sigma_a);
+        if !apart {
+            continue;
+        }
+        parts.truncate(4);
+        let better = match &best {
+            None => true,
+            Some(b) => {
+                parts.len() > b.len()
+                    || (parts.len() == b.len()
+                        && parts.iter().map(|p| p.snr).sum::<f64>()
+                            > b.iter().map(|p| p.snr).sum::<f64>())
+            }
+        };
+        if better {
+            best = Some(parts);
+        }
+    }
+    best
 }
 
 /// The matched-filter S/N that an accepted Gaussian feature `a` produces in
@@ -879,19 +954,20 @@ fn fit_group(
     let n = wave.len();
     let lo_l = group
         .iter()
-        .map(|c| c.lambda - 3.5 * c.sigma_a)
+        .map(|c| c.lambda - 5.0 * c.sigma_a)
         .fold(f64::INFINITY, f64::min);
     let hi_l = group
         .iter()
-        .map(|c| c.lambda + 3.5 * c.sigma_a)
+        .map(|c| c.lambda + 5.0 * c.sigma_a)
         .fold(f64::NEG_INFINITY, f64::max);
     let mut lo = wave.partition_point(|&w| w < lo_l);
     let mut hi = wave.partition_point(|&w| w <= hi_l);
-    // At least 6 pixels either side of each centre and enough for the parameters.
+    // Five filter sigmas, at least 10 pixels, either side of each centre, and
+    // enough pixels for the parameters.
     let xmin = group.iter().map(|c| c.x).fold(f64::INFINITY, f64::min);
     let xmax = group.iter().map(|c| c.x).fold(f64::NEG_INFINITY, f64::max);
-    lo = lo.min((xmin.floor() as usize).saturating_sub(6));
-    hi = hi.max(((xmax.ceil() as usize) + 7).min(n));
+    lo = lo.min((xmin.floor() as usize).saturating_sub(10));
+    hi = hi.max(((xmax.ceil() as usize) + 11).min(n));
     let need = 3 * group.len() + 8;
     while hi - lo < need && (lo > 0 || hi < n) {
         lo = lo.saturating_sub(1);
@@ -911,7 +987,7 @@ fn fit_group(
     let mid = ((lo + hi) / 2).min(n - 1);
     let pix_a = dv[mid].max(0.0) / C_KM_S * wave[mid];
     let opts = FitOptions {
-        fit_slope: npx > 3 * group.len() + 12,
+        fit_slope: npx > 3 * group.len() + 24,
         min_sigma: Some(0.25 * pix_a),
         ..FitOptions::default()
     };
@@ -922,16 +998,56 @@ fn fit_group(
         mask: good,
         continuum: cont,
     };
-    let res = fit_gaussians(&data, lo..hi, &comps, &opts);
-    if std::env::var_os("ZSIFT_DEBUG_FIT").is_some() {
-        eprintln!(
-            "group {} comps, pixels {}..{}: {:?}",
-            group.len(),
-            lo,
-            hi,
-            res.as_ref().map(|r| (r.iterations, r.converged, r.chi2))
-        );
+    let mut res = fit_gaussians(&data, lo..hi, &comps, &opts);
+    // A single feature broader than the resolution may be two narrow lines
+    // blended: try two Gaussians, keep them when chi-square drops by more
+    // than 25 (three more parameters: far beyond chance) and both survive.
+    let mut split: Option<[Cand; 2]> = None;
+    if let (Ok(r), [c]) = (&res, group) {
+        let cf = r.components[0];
+        let broad = cf.fwhm_kms > 1.4 * res_kms && cf.fwhm_kms < 5.0 * res_kms;
+        if broad && cf.snr >= 2.0 * settings.snr_threshold {
+            let two = [
+                Component::free(
+                    cf.centre - 0.8 * cf.sigma,
+                    0.6 * cf.sigma,
+                    0.7 * cf.amplitude,
+                ),
+                Component::free(
+                    cf.centre + 0.8 * cf.sigma,
+                    0.6 * cf.sigma,
+                    0.7 * cf.amplitude,
+                ),
+            ];
+            if let Ok(r2) = fit_gaussians(&data, lo..hi, &two, &opts) {
+                let (a, b) = (r2.components[0], r2.components[1]);
+                let min_sig = 0.4 * res_kms / FWHM_PER_SIGMA / C_KM_S * cf.centre;
+                let ok = |x: &super::fit::ComponentFit| {
+                    x.amplitude * c.sign > 0.0
+                        && x.snr >= settings.fit_snr_fraction * settings.snr_threshold
+                        && x.sigma >= min_sig
+                        && x.centre_err.is_finite()
+                };
+                if r.chi2 - r2.chi2 > 25.0
+                    && ok(&a)
+                    && ok(&b)
+                    && (a.centre - b.centre).abs() > a.sigma.max(b.sigma)
+                {
+                    let mk = |x: &super::fit::ComponentFit| Cand {
+                        lambda: x.centre,
+                        sigma_a: x.sigma,
+                        ..*c
+                    };
+                    split = Some([mk(&a), mk(&b)]);
+                    res = Ok(r2);
+                }
+            }
+        }
     }
+    let group: &[Cand] = match &split {
+        Some(two) => two,
+        None => group,
+    };
     let min_snr = settings.fit_snr_fraction * settings.snr_threshold;
     match res {
         Ok(r) => {
