@@ -13,11 +13,12 @@
 //!    broad emission line being absorbed into the narrow window, e.g. quasar
 //!    lines of 10,000 km/s) the broad continuum is used; elsewhere the narrow
 //!    one, so stellar and quasar continuum shapes are followed.
-//! 4. Block levels are interpolated linearly in `ln(lambda)` to every pixel.
+//! 4. Block levels are interpolated linearly to every pixel.
 //! 5. Pixels whose residual from that continuum, alone or averaged over a few
 //!    neighbours, is above `+clip_high` or below `-clip_low` sigma are
 //!    excluded (grown by a couple of pixels to take line wings), and the fit
-//!    is repeated until the clip set stops changing or `iterations` is reached.
+//!    is repeated (recomputing only the blocks whose clips changed) until
+//!    fewer than 0.2 % of the pixels change or `iterations` is reached.
 //!
 //! Wavelength intervals in [`ContinuumSettings::exclude`] are never used
 //! (for refits around a candidate's lines); the continuum there is
@@ -47,8 +48,9 @@ pub struct ContinuumSettings {
     pub clip_low: f64,
     /// Largest number of clip-and-refit iterations.
     pub iterations: usize,
-    /// Half-width, pixels, of the residual average also used for clipping
-    /// (catches low-contrast lines spread over many pixels). 0 disables.
+    /// Half-width, pixels, of the residual averages also used for clipping
+    /// (at this and at 4x this half-width; they catch low-contrast lines
+    /// spread over many pixels). 0 disables.
     pub smooth_half_pixels: usize,
     /// Pixels added to each side of a clipped run.
     pub grow_pixels: usize,
@@ -62,12 +64,12 @@ impl Default for ContinuumSettings {
     fn default() -> Self {
         ContinuumSettings {
             block_kms: 1500.0,
-            window_kms: 7500.0,
+            window_kms: 10_000.0,
             broad_window_kms: 36_000.0,
             quantile: 0.5,
             clip_high: 2.5,
             clip_low: 3.0,
-            iterations: 5,
+            iterations: 3,
             smooth_half_pixels: 4,
             grow_pixels: 2,
             adaptive: true,
@@ -81,7 +83,7 @@ impl Default for ContinuumSettings {
 struct Block {
     start: usize,
     end: usize,
-    /// Block centre in ln(lambda).
+    /// Block centre, Angstrom.
     u: f64,
 }
 
@@ -111,19 +113,21 @@ pub fn fit(
                 && sigma[i] > 0.0
         })
         .collect();
-    let excluded: Vec<bool> = (0..n)
+    // Pixels the levels may use: good and not in an excluded interval.
+    let usable: Vec<bool> = (0..n)
         .map(|i| {
-            settings
-                .exclude
-                .iter()
-                .any(|&(lo, hi)| wave[i] >= lo && wave[i] <= hi)
+            good[i]
+                && !settings
+                    .exclude
+                    .iter()
+                    .any(|&(lo, hi)| wave[i] >= lo && wave[i] <= hi)
         })
         .collect();
     let mut out = vec![0.0; n_all];
     if !good.iter().any(|&g| g) {
         return out;
     }
-    let blocks = make_blocks(wave, n, settings.block_kms.max(1.0));
+    let blocks = make_blocks(&wave[..n], settings.block_kms.max(1.0));
     let nb = blocks.len();
     let block_dv = settings.block_kms.max(1.0);
     let h_narrow = ((settings.window_kms / block_dv - 1.0) / 2.0)
@@ -139,27 +143,32 @@ pub fn fit(
     let mut narrow: Vec<Option<f64>> = vec![None; nb];
     let mut broad: Vec<Option<f64>> = vec![None; nb];
     let mut scratch: Vec<f64> = Vec::with_capacity(64);
-    let mut sscratch: Vec<f64> = Vec::with_capacity(64);
     let mut win: Vec<f64> = Vec::with_capacity(2 * h_broad + 1);
     let mut resid = vec![0.0; n];
     let mut var = vec![0.0; n];
     let iterations = settings.iterations.max(1);
+    // Blocks whose kept pixels changed since their level was computed.
+    let mut dirty = vec![true; nb];
     for it in 0..iterations {
         // 1. Block levels.
         for (b, blk) in blocks.iter().enumerate() {
+            if !dirty[b] {
+                continue;
+            }
+            dirty[b] = false;
             scratch.clear();
-            sscratch.clear();
+            let mut ssum = 0.0;
             for i in blk.start..blk.end {
-                if good[i] && !excluded[i] && !clipped[i] {
+                if usable[i] && !clipped[i] {
                     scratch.push(flux[i]);
-                    sscratch.push(sigma[i]);
+                    ssum += sigma[i];
                 }
             }
             if scratch.len() >= 3 || (scratch.len() == blk.end - blk.start && !scratch.is_empty()) {
                 let k = scratch.len() as f64;
                 level[b] = Some(quantile_in_place(&mut scratch, settings.quantile));
                 // Error of a median: 1.253 sigma / sqrt(n) (common practice, no source).
-                level_err[b] = 1.253 * median_in_place(&mut sscratch) / k.sqrt();
+                level_err[b] = 1.253 * (ssum / k) / k.sqrt();
             } else {
                 level[b] = None;
             }
@@ -167,6 +176,10 @@ pub fn fit(
         // 2. Running medians of the block levels.
         running_median(&level, h_narrow, &mut narrow, &mut win);
         running_median(&level, h_broad, &mut broad, &mut win);
+        // A running mean of the running medians: medians resist lines, the
+        // mean then removes most of their extra noise.
+        running_mean(&mut narrow, h_narrow.div_ceil(2), &mut win);
+        running_mean(&mut broad, h_broad.div_ceil(2), &mut win);
         // 3. Combine.
         let mut node_u: Vec<f64> = Vec::with_capacity(nb);
         let mut node_v: Vec<f64> = Vec::with_capacity(nb);
@@ -174,7 +187,7 @@ pub fn fit(
             let v = match (narrow[b], broad[b]) {
                 (Some(cn), Some(cb)) if settings.adaptive => {
                     let e = level_err[b] / ((2 * h_narrow + 1) as f64).sqrt();
-                    let thr = (4.0 * e).max(0.02 * cb.abs());
+                    let thr = (3.0 * e).max(0.02 * cb.abs());
                     let d = cn - cb;
                     if d > thr && thr > 0.0 {
                         let w = ((d - thr) / thr).clamp(0.0, 1.0);
@@ -200,7 +213,7 @@ pub fn fit(
             return out;
         }
         // 4. Interpolate to pixels.
-        interpolate(wave, n, &node_u, &node_v, &mut out);
+        interpolate(&wave[..n], &node_u, &node_v, &mut out);
         if it + 1 == iterations {
             break;
         }
@@ -214,7 +227,15 @@ pub fn fit(
                 var[i] = 0.0;
             }
         }
-        let changed = update_clips(&good, &resid, &var, settings, &mut clipped);
+        let changed = update_clips(
+            &good,
+            &resid,
+            &var,
+            settings,
+            &mut clipped,
+            &blocks,
+            &mut dirty,
+        );
         if !changed {
             break;
         }
@@ -234,7 +255,18 @@ fn update_clips(
     var: &[f64],
     s: &ContinuumSettings,
     clipped: &mut [bool],
+    blocks: &[Block],
+    dirty: &mut [bool],
 ) -> bool {
+    let (hi2, lo2) = (s.clip_high * s.clip_high, s.clip_low * s.clip_low);
+    // r / sqrt(v) > c (c > 0)  <=>  r > 0 and r^2 > c^2 v: no square roots.
+    let out = |r: f64, v: f64| {
+        if r > 0.0 {
+            r * r > hi2 * v
+        } else {
+            r * r > lo2 * v
+        }
+    };
     let n = good.len();
     // Prefix sums for the smoothed residual test.
     let h = s.smooth_half_pixels;
@@ -251,21 +283,22 @@ fn update_clips(
         if !good[i] {
             continue;
         }
-        let r = resid[i] / var[i].sqrt();
-        let mut bad = r > s.clip_high || r < -s.clip_low;
-        if !bad && h > 0 {
-            let lo = i.saturating_sub(h);
-            let hi = (i + h + 1).min(n);
+        let mut bad = out(resid[i], var[i]);
+        // The residual averaged at two scales (h and 4h pixels either side).
+        for hh in [h, 4 * h] {
+            if bad || hh == 0 {
+                break;
+            }
+            let lo = i.saturating_sub(hh);
+            let hi = (i + hh + 1).min(n);
             let sv = pv[hi] - pv[lo];
             if sv > 0.0 {
-                let rs = (pr[hi] - pr[lo]) / sv.sqrt();
-                bad = rs > s.clip_high || rs < -s.clip_low;
+                bad = out(pr[hi] - pr[lo], sv);
             }
         }
         raw[i] = bad;
     }
     let g = s.grow_pixels;
-    let mut changed = false;
     let mut i = 0;
     let mut newc = vec![false; n];
     while i < n {
@@ -282,64 +315,113 @@ fn update_clips(
             i += 1;
         }
     }
-    for i in 0..n {
-        if newc[i] != clipped[i] {
-            changed = true;
+    let mut flips = 0usize;
+    for (b, blk) in blocks.iter().enumerate() {
+        for i in blk.start..blk.end {
+            if newc[i] != clipped[i] {
+                flips += 1;
+                dirty[b] = true;
+            }
+            clipped[i] = newc[i];
         }
-        clipped[i] = newc[i];
     }
-    changed
+    // Converged when fewer than 0.2 % of the pixels changed side.
+    flips * 500 > n
 }
 
-/// Cut `wave[..n]` into contiguous blocks of `dv` km/s in ln(lambda), each
-/// holding at least 5 pixels where possible.
-fn make_blocks(wave: &[f64], n: usize, dv: f64) -> Vec<Block> {
-    let du = dv / C_KM_S;
+/// Cut the pixels (wavelengths, increasing) into contiguous blocks of `dv`
+/// km/s (a fixed ratio of wavelengths), each holding at least 5 pixels where
+/// possible.
+fn make_blocks(wave: &[f64], dv: f64) -> Vec<Block> {
+    let n = wave.len();
+    let ratio = 1.0 + dv / C_KM_S;
     let mut blocks = Vec::new();
-    if n == 0 {
-        return blocks;
-    }
-    let lnw = |i: usize| wave[i].max(f64::MIN_POSITIVE).ln();
     let mut start = 0usize;
     while start < n {
-        let u0 = lnw(start);
+        let limit = wave[start] * ratio;
         let mut end = start + 1;
-        while end < n && (lnw(end) - u0 < du || end - start < 5) {
+        while end < n && (wave[end] < limit || end - start < 5) {
             end += 1;
         }
         // Avoid a runt last block: merge it into this one.
         if n - end < 3 {
             end = n;
         }
-        let u = 0.5 * (lnw(start) + lnw(end - 1));
+        let u = 0.5 * (wave[start] + wave[end - 1]);
         blocks.push(Block { start, end, u });
         start = end;
     }
     blocks
 }
 
-/// Running median of the valid entries of `v` over `[b-h, b+h]`.
+/// Running median of the valid entries of `v` over `[b-h, b+h]`, with a
+/// sorted sliding window (O(h) per step).
 fn running_median(v: &[Option<f64>], h: usize, out: &mut [Option<f64>], win: &mut Vec<f64>) {
     let nb = v.len();
+    win.clear();
+    let insert = |win: &mut Vec<f64>, x: f64| {
+        let p = win.partition_point(|&y| y < x);
+        win.insert(p, x);
+    };
+    for x in v[..h.min(nb)].iter().flatten() {
+        insert(win, *x);
+    }
     for b in 0..nb {
-        win.clear();
-        let lo = b.saturating_sub(h);
-        let hi = (b + h + 1).min(nb);
-        win.extend(v[lo..hi].iter().flatten());
-        out[b] = if win.is_empty() {
+        // Enter b + h, leave b - h - 1.
+        if let Some(Some(x)) = v.get(b + h) {
+            insert(win, *x);
+        }
+        if b > h {
+            if let Some(x) = v[b - h - 1] {
+                let p = win.partition_point(|&y| y < x);
+                if p < win.len() {
+                    win.remove(p);
+                }
+            }
+        }
+        let k = win.len();
+        out[b] = if k == 0 {
             None
+        } else if k % 2 == 1 {
+            Some(win[k / 2])
         } else {
-            Some(median_in_place(win))
+            Some(0.5 * (win[k / 2 - 1] + win[k / 2]))
         };
     }
 }
 
-/// Linear interpolation in ln(lambda) of nodes `(u, v)` to pixels; flat
-/// beyond the end nodes.
-fn interpolate(wave: &[f64], n: usize, u: &[f64], v: &[f64], out: &mut [f64]) {
+/// Running mean of the valid entries of `v` over `[b-h, b+h]`, in place.
+fn running_mean(v: &mut [Option<f64>], h: usize, tmp: &mut Vec<f64>) {
+    if h == 0 {
+        return;
+    }
+    let nb = v.len();
+    tmp.clear();
+    tmp.extend(v.iter().map(|x| x.unwrap_or(f64::NAN)));
+    for b in 0..nb {
+        if v[b].is_none() {
+            continue;
+        }
+        let lo = b.saturating_sub(h);
+        let hi = (b + h + 1).min(nb);
+        let (mut s, mut k) = (0.0, 0usize);
+        for &x in &tmp[lo..hi] {
+            if !x.is_nan() {
+                s += x;
+                k += 1;
+            }
+        }
+        v[b] = Some(s / k as f64);
+    }
+}
+
+/// Linear interpolation of nodes `(u, v)` (wavelength, value) to the pixels
+/// at `wave`; flat beyond the end nodes. Nodes are a block (about 1,000 km/s)
+/// apart, where linear in wavelength and in `ln(lambda)` differ by parts in a
+/// million.
+fn interpolate(wave: &[f64], u: &[f64], v: &[f64], out: &mut [f64]) {
     let mut k = 0usize;
-    for i in 0..n {
-        let x = wave[i].max(f64::MIN_POSITIVE).ln();
+    for (i, &x) in wave.iter().enumerate() {
         while k + 1 < u.len() && u[k + 1] < x {
             k += 1;
         }

@@ -16,12 +16,16 @@
 //!    that width centred at each pixel (and `num / den` its amplitude).
 //!    Broad kernels run on the spectrum binned by an integer factor (sums of
 //!    `r / sigma^2` and `1 / sigma^2`), keeping at least two bins per kernel
-//!    sigma, so every width costs about the same.
+//!    sigma and a half and truncating kernels at [`KERNEL_HALF_SIGMAS`], so
+//!    every width costs about the same.
 //! 3. **Peaks and merging.** Peaks above [`DetectSettings::snr_threshold`] in
-//!    emission (positive) and absorption (negative) at every width are pooled,
-//!    strongest first; a peak within `1.2` kernel sigmas of a stronger one of
-//!    the same sign (at either's width) is the same feature seen at another
-//!    width and is dropped.
+//!    emission (positive) and absorption (negative) at every width are pooled
+//!    and taken strongest first. For each, the S/N that the features already
+//!    accepted (same sign) put into its filter is subtracted, from the overlap
+//!    of two Gaussians; it is kept only when the excess still reaches the
+//!    threshold. So one line seen at several widths, and the wings of a broad
+//!    line seen by narrow filters, count once, while a weaker line beside a
+//!    strong one survives.
 //! 4. **Fits.** Features whose profiles overlap are fitted together
 //!    ([`crate::identify::fit::fit_gaussians`], one Gaussian each plus a local
 //!    linear offset). A fitted width narrower than half the resolution marks a
@@ -82,6 +86,10 @@ impl Default for DetectSettings {
     }
 }
 
+/// Half-width of the matched-filter kernels, in kernel sigmas (the Gaussian
+/// beyond holds 0.3 % of its weight).
+pub const KERNEL_HALF_SIGMAS: f64 = 3.0;
+
 /// Pixels per resolution element assumed when the resolution is not known
 /// (spectra are usually sampled at 2 to 3 pixels per FWHM: common practice,
 /// no source).
@@ -140,17 +148,16 @@ pub fn peaks(y: &[f64], height: f64, distance: usize) -> Vec<usize> {
     }
     let mut i = 1;
     while i < n - 1 {
-        if y[i - 1] < y[i] && y[i].is_finite() {
+        // A flat top's middle has the same value as its start, so testing
+        // the height first selects the same peaks, faster.
+        if y[i] >= height && y[i - 1] < y[i] && y[i].is_finite() {
             // Look ahead over a plateau.
             let mut ahead = i + 1;
             while ahead < n - 1 && y[ahead] == y[i] {
                 ahead += 1;
             }
             if y[ahead] < y[i] {
-                let mid = (i + ahead - 1) / 2;
-                if y[mid] >= height {
-                    cand.push(mid);
-                }
+                cand.push((i + ahead - 1) / 2);
                 i = ahead;
                 continue;
             }
@@ -268,15 +275,18 @@ pub fn find(
     let mut amp = Vec::with_capacity(n);
     let mut neg = Vec::with_capacity(n);
     let mut widths = 0;
+    let base = Grid::unbinned(&num, &den, &dv);
     while fwhm <= max_fwhm * 1.0001 && widths < 24 {
         widths += 1;
         let sig_v = fwhm / FWHM_PER_SIGMA;
         let sig_pix = sig_v / pix_kms;
-        let f = ((sig_pix / 2.0).floor() as usize).max(1);
+        let f = ((sig_pix / 1.5).floor() as usize).max(1);
+        let binned;
         let grid = if f == 1 {
-            Grid::unbinned(&num, &den, &dv)
+            &base
         } else {
-            Grid::binned(&num, &den, &dv, f)
+            binned = Grid::binned(&num, &den, &dv, f);
+            &binned
         };
         let nb = grid.len();
         snr.clear();
@@ -318,12 +328,36 @@ pub fn find(
 
     // 3. Merge across widths: strongest first.
     cands.sort_by(|a, b| b.snr.total_cmp(&a.snr));
+    let all = cands.clone();
     let mut acc: Vec<Cand> = Vec::new();
     for c in cands {
-        let dup = acc.iter().any(|a| {
-            a.sign == c.sign && (a.lambda - c.lambda).abs() < 1.2 * a.sigma_a.max(c.sigma_a)
-        });
-        if !dup {
+        // What the accepted features of the same sign already put into this
+        // candidate's filter (see `explained_snr`): only the excess counts.
+        let mut explained = 0.0;
+        let mut dup = false;
+        for a in acc.iter().filter(|a| a.sign == c.sign) {
+            if (a.lambda - c.lambda).abs() < 0.5 * a.sigma_a.max(c.sigma_a) {
+                dup = true;
+                break;
+            }
+            explained += explained_snr(a, &c);
+        }
+        let excess = c.snr - explained;
+        if !dup && excess >= settings.snr_threshold && c.snr >= 1.3 * explained {
+            // A broad peak that narrower filters see as separate lines is a
+            // blend: keep the lines instead.
+            if let Some(parts) = blend_parts(&c, &all, settings.snr_threshold, res_kms) {
+                for p in parts {
+                    let taken = acc.iter().any(|a| {
+                        a.sign == p.sign
+                            && (a.lambda - p.lambda).abs() < 0.5 * a.sigma_a.max(p.sigma_a)
+                    });
+                    if !taken {
+                        acc.push(p);
+                    }
+                }
+                continue;
+            }
             acc.push(c);
             if acc.len() >= settings.max_features {
                 break;
@@ -338,7 +372,7 @@ pub fn find(
     while i < acc.len() {
         let mut j = i + 1;
         while j < acc.len()
-            && j - i < 6
+            && j - i < 4
             && acc[j].lambda - acc[j - 1].lambda < 3.0 * (acc[j].sigma_a + acc[j - 1].sigma_a)
         {
             j += 1;
@@ -499,6 +533,80 @@ struct Cand {
     sign: f64,
 }
 
+/// The narrower-filter peaks that split candidate `c` into a blend: at one
+/// narrower width, at least two peaks of the same sign within `1.5` sigmas
+/// of `c`, each of S/N at least `max(threshold, 0.3 c.snr)`, pairwise at
+/// least `2.5` filter sigmas apart. A single Gaussian line gives one peak
+/// at every narrower width, so two such peaks are two lines. The width with
+/// most peaks (then the highest summed S/N) wins; `None` when no width
+/// qualifies or `c` is broader than 4.5 resolution elements.
+fn blend_parts(c: &Cand, all: &[Cand], threshold: f64, res_kms: f64) -> Option<Vec<Cand>> {
+    // Only narrow blends: a broad line (a quasar's) is one line even where
+    // noise dents it.
+    if c.fwhm_kms > 4.5 * res_kms {
+        return None;
+    }
+    let floor = threshold.max(0.3 * c.snr);
+    let mut best: Option<Vec<Cand>> = None;
+    let mut widths: Vec<f64> = all
+        .iter()
+        .filter(|p| p.fwhm_kms < 0.99 * c.fwhm_kms)
+        .map(|p| p.fwhm_kms)
+        .collect();
+    widths.sort_by(f64::total_cmp);
+    widths.dedup();
+    for w in widths {
+        let mut parts: Vec<Cand> = all
+            .iter()
+            .filter(|p| {
+                p.fwhm_kms == w
+                    && p.sign == c.sign
+                    && p.snr >= floor
+                    && (p.lambda - c.lambda).abs() < 1.5 * c.sigma_a
+            })
+            .copied()
+            .collect();
+        if parts.len() < 2 {
+            continue;
+        }
+        parts.sort_by(|a, b| a.lambda.total_cmp(&b.lambda));
+        let apart = parts
+            .windows(2)
+            .all(|q| q[1].lambda - q[0].lambda >= 2.5 * q[0].sigma_a);
+        if !apart {
+            continue;
+        }
+        parts.truncate(4);
+        let better = match &best {
+            None => true,
+            Some(b) => {
+                parts.len() > b.len()
+                    || (parts.len() == b.len()
+                        && parts.iter().map(|p| p.snr).sum::<f64>()
+                            > b.iter().map(|p| p.snr).sum::<f64>())
+            }
+        };
+        if better {
+            best = Some(parts);
+        }
+    }
+    best
+}
+
+/// The matched-filter S/N that an accepted Gaussian feature `a` produces in
+/// the filter of candidate `c` (its width and position), for locally
+/// uniform noise: `snr_a * sqrt(2 sa sc / (sa^2 + sc^2)) * exp(-d^2 / (2 (sa^2 + sc^2)))`,
+/// from the overlap integral of two Gaussians (common practice, no source).
+fn explained_snr(a: &Cand, c: &Cand) -> f64 {
+    let (sa, sc) = (a.sigma_a, c.sigma_a);
+    let q = sa * sa + sc * sc;
+    if q <= 0.0 {
+        return 0.0;
+    }
+    let d = a.lambda - c.lambda;
+    a.snr * (2.0 * sa * sc / q).sqrt() * (-0.5 * d * d / q).exp()
+}
+
 /// Shortest of the per-pixel slices.
 fn len_of(wave: &[f64], flux: &[f64], sigma: &[f64], mask: &[bool], cont: &[f64]) -> usize {
     wave.len()
@@ -632,6 +740,7 @@ impl Grid {
         let nb = self.len();
         const CHUNK: usize = 32;
         let mut kern: Vec<f64> = Vec::new();
+        let mut kern2: Vec<f64> = Vec::new();
         let mut start = 0;
         while start < nb {
             let end = (start + CHUNK).min(nb);
@@ -641,22 +750,26 @@ impl Grid {
             w3.sort_by(f64::total_cmp);
             let bin_kms = w3[1].max(f64::MIN_POSITIVE);
             let sb = (sig_v / bin_kms).max(0.3);
-            let half = ((3.5 * sb).ceil() as usize).max(1);
+            let half = ((KERNEL_HALF_SIGMAS * sb).ceil() as usize).max(1);
             kern.clear();
+            kern2.clear();
             for j in 0..=2 * half {
                 let z = (j as f64 - half as f64) / sb;
-                kern.push((-0.5 * z * z).exp());
+                let g = (-0.5 * z * z).exp();
+                kern.push(g);
+                kern2.push(g * g);
             }
             for b in start..end {
                 let lo = b.saturating_sub(half);
                 let hi = (b + half + 1).min(nb);
-                let (mut s1, mut s2) = (0.0, 0.0);
                 let k0 = lo + half - b;
-                for (k, i) in (lo..hi).enumerate() {
-                    let g = kern[k0 + k];
-                    s1 += g * self.num[i];
-                    s2 += g * g * self.den[i];
-                }
+                let len = hi - lo;
+                let (s1, s2) = dot2(
+                    &kern[k0..k0 + len],
+                    &kern2[k0..k0 + len],
+                    &self.num[lo..hi],
+                    &self.den[lo..hi],
+                );
                 if s2 > 0.0 {
                     snr[b] = s1 / s2.sqrt();
                     amp[b] = s1 / s2;
@@ -668,6 +781,36 @@ impl Grid {
             start = end;
         }
     }
+}
+
+/// `(sum k * x, sum k2 * y)` over equal-length slices, in four lanes so the
+/// compiler can use vector instructions.
+fn dot2(k: &[f64], k2: &[f64], x: &[f64], y: &[f64]) -> (f64, f64) {
+    let n = k.len().min(k2.len()).min(x.len()).min(y.len());
+    let (k, k2, x, y) = (&k[..n], &k2[..n], &x[..n], &y[..n]);
+    let (mut a, mut b) = ([0.0f64; 4], [0.0f64; 4]);
+    let kc = k.chunks_exact(4);
+    let k2c = k2.chunks_exact(4);
+    let xc = x.chunks_exact(4);
+    let yc = y.chunks_exact(4);
+    let (kr, k2r, xr, yr) = (
+        kc.remainder(),
+        k2c.remainder(),
+        xc.remainder(),
+        yc.remainder(),
+    );
+    for (((kk, kk2), xx), yy) in kc.zip(k2c).zip(xc).zip(yc) {
+        for l in 0..4 {
+            a[l] += kk[l] * xx[l];
+            b[l] += kk2[l] * yy[l];
+        }
+    }
+    let (mut s1, mut s2) = ((a[0] + a[1]) + (a[2] + a[3]), (b[0] + b[1]) + (b[2] + b[3]));
+    for j in 0..kr.len() {
+        s1 += kr[j] * xr[j];
+        s2 += k2r[j] * yr[j];
+    }
+    (s1, s2)
 }
 
 /// Find and report isolated one- and two-pixel spikes; returns their pixels.
@@ -811,19 +954,20 @@ fn fit_group(
     let n = wave.len();
     let lo_l = group
         .iter()
-        .map(|c| c.lambda - 3.5 * c.sigma_a)
+        .map(|c| c.lambda - 5.0 * c.sigma_a)
         .fold(f64::INFINITY, f64::min);
     let hi_l = group
         .iter()
-        .map(|c| c.lambda + 3.5 * c.sigma_a)
+        .map(|c| c.lambda + 5.0 * c.sigma_a)
         .fold(f64::NEG_INFINITY, f64::max);
     let mut lo = wave.partition_point(|&w| w < lo_l);
     let mut hi = wave.partition_point(|&w| w <= hi_l);
-    // At least 6 pixels either side of each centre and enough for the parameters.
+    // Five filter sigmas, at least 10 pixels, either side of each centre, and
+    // enough pixels for the parameters.
     let xmin = group.iter().map(|c| c.x).fold(f64::INFINITY, f64::min);
     let xmax = group.iter().map(|c| c.x).fold(f64::NEG_INFINITY, f64::max);
-    lo = lo.min((xmin.floor() as usize).saturating_sub(6));
-    hi = hi.max(((xmax.ceil() as usize) + 7).min(n));
+    lo = lo.min((xmin.floor() as usize).saturating_sub(10));
+    hi = hi.max(((xmax.ceil() as usize) + 11).min(n));
     let need = 3 * group.len() + 8;
     while hi - lo < need && (lo > 0 || hi < n) {
         lo = lo.saturating_sub(1);
@@ -843,7 +987,7 @@ fn fit_group(
     let mid = ((lo + hi) / 2).min(n - 1);
     let pix_a = dv[mid].max(0.0) / C_KM_S * wave[mid];
     let opts = FitOptions {
-        fit_slope: npx > 3 * group.len() + 12,
+        fit_slope: npx > 3 * group.len() + 24,
         min_sigma: Some(0.25 * pix_a),
         ..FitOptions::default()
     };
@@ -854,7 +998,56 @@ fn fit_group(
         mask: good,
         continuum: cont,
     };
-    let res = fit_gaussians(&data, lo..hi, &comps, &opts);
+    let mut res = fit_gaussians(&data, lo..hi, &comps, &opts);
+    // A single feature broader than the resolution may be two narrow lines
+    // blended: try two Gaussians, keep them when chi-square drops by more
+    // than 25 (three more parameters: far beyond chance) and both survive.
+    let mut split: Option<[Cand; 2]> = None;
+    if let (Ok(r), [c]) = (&res, group) {
+        let cf = r.components[0];
+        let broad = cf.fwhm_kms > 1.4 * res_kms && cf.fwhm_kms < 5.0 * res_kms;
+        if broad && cf.snr >= 2.0 * settings.snr_threshold {
+            let two = [
+                Component::free(
+                    cf.centre - 0.8 * cf.sigma,
+                    0.6 * cf.sigma,
+                    0.7 * cf.amplitude,
+                ),
+                Component::free(
+                    cf.centre + 0.8 * cf.sigma,
+                    0.6 * cf.sigma,
+                    0.7 * cf.amplitude,
+                ),
+            ];
+            if let Ok(r2) = fit_gaussians(&data, lo..hi, &two, &opts) {
+                let (a, b) = (r2.components[0], r2.components[1]);
+                let min_sig = 0.4 * res_kms / FWHM_PER_SIGMA / C_KM_S * cf.centre;
+                let ok = |x: &super::fit::ComponentFit| {
+                    x.amplitude * c.sign > 0.0
+                        && x.snr >= settings.fit_snr_fraction * settings.snr_threshold
+                        && x.sigma >= min_sig
+                        && x.centre_err.is_finite()
+                };
+                if r.chi2 - r2.chi2 > 25.0
+                    && ok(&a)
+                    && ok(&b)
+                    && (a.centre - b.centre).abs() > a.sigma.max(b.sigma)
+                {
+                    let mk = |x: &super::fit::ComponentFit| Cand {
+                        lambda: x.centre,
+                        sigma_a: x.sigma,
+                        ..*c
+                    };
+                    split = Some([mk(&a), mk(&b)]);
+                    res = Ok(r2);
+                }
+            }
+        }
+    }
+    let group: &[Cand] = match &split {
+        Some(two) => two,
+        None => group,
+    };
     let min_snr = settings.fit_snr_fraction * settings.snr_threshold;
     match res {
         Ok(r) => {

@@ -91,11 +91,11 @@ pub fn ratio_is_suspect(ratio: f64) -> bool {
 }
 
 /// The robust per-pixel sigma: MAD of first differences / (sqrt 2 x 0.6745)
-/// in windows of `window` pixels (at least 20), centred every `window / 2`
-/// pixels and linearly interpolated between window centres. Differences are
+/// in consecutive windows of `window` pixels (at least 20), linearly
+/// interpolated between window centres. Differences are
 /// taken between consecutive good pixels. Windows with too few good pixels
 /// take the whole-spectrum value; the result is finite and positive
-/// everywhere (floored at `1e-6` of the median |flux|, or `1e-30`).
+/// everywhere (floored at `1e-6` of the mean |flux|, or `1e-30`).
 pub fn robust_sigma(flux: &[f64], mask: &[bool], window: usize) -> Vec<f64> {
     let n = flux.len();
     let window = window.max(20);
@@ -103,10 +103,11 @@ pub fn robust_sigma(flux: &[f64], mask: &[bool], window: usize) -> Vec<f64> {
     let mut pos: Vec<usize> = Vec::with_capacity(n);
     let mut diff: Vec<f64> = Vec::with_capacity(n);
     let mut last: Option<usize> = None;
-    let mut absf: Vec<f64> = Vec::with_capacity(n);
+    let (mut abs_sum, mut n_good) = (0.0, 0usize);
     for i in 0..n {
         if mask.get(i).copied().unwrap_or(false) && flux[i].is_finite() {
-            absf.push(flux[i].abs());
+            abs_sum += flux[i].abs();
+            n_good += 1;
             if let Some(j) = last {
                 pos.push(i);
                 diff.push(flux[i] - flux[j]);
@@ -114,7 +115,7 @@ pub fn robust_sigma(flux: &[f64], mask: &[bool], window: usize) -> Vec<f64> {
             last = Some(i);
         }
     }
-    let floor = (1e-6 * median_in_place(&mut absf)).max(1e-30);
+    let floor = (1e-6 * abs_sum / n_good.max(1) as f64).max(1e-30);
     let mut scratch: Vec<f64> = Vec::with_capacity(window + 1);
     let global = {
         scratch.clear();
@@ -130,7 +131,7 @@ pub fn robust_sigma(flux: &[f64], mask: &[bool], window: usize) -> Vec<f64> {
         return vec![global; n];
     }
     // Node estimates.
-    let step = window / 2;
+    let step = window;
     let mut nodes: Vec<(f64, f64)> = Vec::new();
     let mut start = 0usize;
     loop {
