@@ -24,11 +24,11 @@
 //!
 //! [`write`] holds the file writers (FITS image, 2-D image, binary table,
 //! CSV/TSV/whitespace text), [`demo`] the bundled demo night.
-
+mod fits;
 mod model;
 pub mod restlines;
 pub mod rng;
-
+pub mod write;
 use crate::lines::{LineKind, ObjectClass};
 use crate::spectrum::{Medium, Metadata, Spectrum};
 use serde::{Deserialize, Serialize};
