@@ -24,6 +24,7 @@
 //!
 //! [`write`] holds the file writers (FITS image, 2-D image, binary table,
 //! CSV/TSV/whitespace text), [`demo`] the bundled demo night.
+pub mod demo;
 mod fits;
 mod model;
 pub mod restlines;

@@ -133,6 +133,7 @@ fn flux_unit(meta: &Metadata) -> String {
 
 /// Observation metadata cards shared by every FITS layout.
 fn meta_cards(h: &mut Header, meta: &Metadata) {
+    h.comment("Synthetic spectrum from zsift's generator: invented data.");
     if !meta.target.is_empty() {
         h.string("OBJECT", &meta.target, "target name");
     }
@@ -194,7 +195,11 @@ fn wcs_cards(h: &mut Header, inst: &Instrument, axis: usize) {
             );
             h.string(&format!("CUNIT{axis}"), "Angstrom", "");
             h.real(&format!("CRPIX{axis}"), 1.0, "reference pixel");
-            h.real(&format!("CRVAL{axis}"), inst.lo, "[Angstrom] at reference pixel");
+            h.real(
+                &format!("CRVAL{axis}"),
+                inst.lo,
+                "[Angstrom] at reference pixel",
+            );
             h.real(&format!("CDELT{axis}"), step, "[Angstrom] per pixel");
         }
         Sampling::Log10 { dlog10 } => {
@@ -205,7 +210,11 @@ fn wcs_cards(h: &mut Header, inst: &Instrument, axis: usize) {
             );
             h.string(&format!("CUNIT{axis}"), "Angstrom", "");
             h.real(&format!("CRPIX{axis}"), 1.0, "reference pixel");
-            h.real(&format!("CRVAL{axis}"), inst.lo, "[Angstrom] at reference pixel");
+            h.real(
+                &format!("CRVAL{axis}"),
+                inst.lo,
+                "[Angstrom] at reference pixel",
+            );
             h.real(
                 &format!("CDELT{axis}"),
                 inst.lo * dlog10 * std::f64::consts::LN_10,
@@ -213,7 +222,11 @@ fn wcs_cards(h: &mut Header, inst: &Instrument, axis: usize) {
             );
         }
     }
-    h.string("SPECSYS", "TOPOCENT", "wavelengths as observed at the telescope");
+    h.string(
+        "SPECSYS",
+        "TOPOCENT",
+        "wavelengths as observed at the telescope",
+    );
 }
 
 fn fits_image(s: &Spectrum, inst: &Instrument, medium: Medium, rows: bool) -> io::Result<Vec<u8>> {
@@ -377,7 +390,11 @@ fn fits_table(s: &Spectrum, medium: Medium, vector: bool) -> Vec<u8> {
     }
     h.string("EXTNAME", "SPECTRUM", "");
     h.string("AIRORVAC", medium_word, "medium of the wavelength column");
-    h.string("SPECSYS", "TOPOCENT", "wavelengths as observed at the telescope");
+    h.string(
+        "SPECSYS",
+        "TOPOCENT",
+        "wavelengths as observed at the telescope",
+    );
     meta_cards(&mut h, &s.meta);
     out.extend(h.bytes());
 
