@@ -478,17 +478,16 @@ pub fn generate(spec: &SynthSpec, seed: u64) -> Synthetic {
     model::build(spec, seed)
 }
 
-/// Redshift of a radial velocity (km/s), relativistic (special-relativistic
-/// Doppler along the line of sight): 1 + z = sqrt((1 + b) / (1 - b)), b = v/c.
+/// Redshift of a radial velocity (km/s), relativistic: the project's
+/// [`crate::physics::doppler::z_from_velocity`], so truth and identifier share
+/// one convention.
 pub fn z_from_velocity(v_kms: f64) -> f64 {
-    let b = v_kms / crate::physics::constants::C_KM_S;
-    ((1.0 + b) / (1.0 - b)).sqrt() - 1.0
+    crate::physics::doppler::z_from_velocity(v_kms)
 }
 
 /// Radial velocity (km/s) of a redshift, the inverse of [`z_from_velocity`].
 pub fn velocity_from_z(z: f64) -> f64 {
-    let s = (1.0 + z) * (1.0 + z);
-    crate::physics::constants::C_KM_S * (s - 1.0) / (s + 1.0)
+    crate::physics::doppler::velocity_from_z(z)
 }
 
 #[cfg(test)]

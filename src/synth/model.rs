@@ -285,7 +285,7 @@ pub(super) fn draw_visible_z(kind: Kind, inst: &Instrument, r: &mut Rng) -> f64 
                 "Ca II K",
                 "Ca II H",
                 "G band",
-                "Mg b 5173",
+                "Mg I 5173",
                 "Na D2",
                 "H-beta",
                 "Ca II 8542",
@@ -295,10 +295,10 @@ pub(super) fn draw_visible_z(kind: Kind, inst: &Instrument, r: &mut Rng) -> f64 
         Kind::Quasar => (
             &[
                 "Ly-alpha",
-                "Si IV 1397",
+                "Si IV+O IV] 1400",
                 "C IV 1549",
                 "C III] 1909",
-                "Mg II 2799",
+                "Mg II 2798",
                 "H-beta",
                 "H-alpha",
             ],
@@ -862,13 +862,13 @@ fn solar_star(b: &mut Builder, r: &mut Rng) {
         b.absorption(name, 450.0, ew * j(r));
     }
     b.absorption("G band", 1000.0, (4.0 + 3.0 * q) * j(r));
-    for name in ["Mg b 5167", "Mg b 5173", "Mg b 5184"] {
+    for name in ["Mg I 5167", "Mg I 5173", "Mg I 5184"] {
         b.absorption(name, 160.0, (1.1 + 0.8 * q) * j(r));
     }
     b.absorption("Na D2", 110.0, (0.8 + 0.9 * q) * j(r));
     b.absorption("Na D1", 110.0, (0.7 + 0.8 * q) * j(r));
-    b.absorption("Fe 5270", 200.0, (1.2 + 0.8 * q) * j(r));
-    b.absorption("Fe 5335", 200.0, (1.0 + 0.7 * q) * j(r));
+    b.absorption("Fe I 5270", 200.0, (1.2 + 0.8 * q) * j(r));
+    b.absorption("Fe I 5328", 200.0, (1.0 + 0.7 * q) * j(r));
     b.absorption("Ca I 4227", 150.0, (0.9 + 1.5 * q) * j(r));
     for name in ["Fe I 4046", "Fe I 4384", "Fe I 4958"] {
         b.absorption(name, 120.0, (0.5 + 0.4 * q) * j(r));
@@ -885,11 +885,11 @@ fn cool_star(b: &mut Builder, r: &mut Rng) {
     b.set_continuum(|w| planck(w, t) * (1.0 - 0.4 * (1.0 - step(w, 4100.0, 80.0))));
     b.param("temperature_k", t);
     for (name, d0, d1) in [
-        ("TiO 4955", 0.15, 0.30),
+        ("TiO 4954", 0.15, 0.30),
         ("TiO 5167", 0.15, 0.35),
         ("TiO 5448", 0.10, 0.25),
         ("TiO 5847", 0.10, 0.20),
-        ("TiO 6159", 0.20, 0.30),
+        ("TiO 6158", 0.20, 0.30),
         ("CaH 6382", 0.10, 0.15),
         ("TiO 6651", 0.10, 0.20),
         ("CaH 6750", 0.10, 0.10),
@@ -910,7 +910,7 @@ fn cool_star(b: &mut Builder, r: &mut Rng) {
     b.absorption("K I 7665", 300.0, (1.5 + 3.0 * q) * j(r));
     b.absorption("K I 7699", 300.0, (1.3 + 2.7 * q) * j(r));
     b.absorption("Ca I 4227", 300.0, (2.0 + 3.0 * q) * j(r));
-    for name in ["Mg b 5167", "Mg b 5173", "Mg b 5184"] {
+    for name in ["Mg I 5167", "Mg I 5173", "Mg I 5184"] {
         b.absorption(name, 200.0, 1.4 * j(r));
     }
     b.absorption("Ca II 8498", 200.0, 0.9 * j(r));
@@ -965,7 +965,7 @@ fn emission_galaxy(b: &mut Builder, kind: Kind, level: f64, r: &mut Rng, vlo: f6
         b.absorption(name, 1500.0, balmer_abs);
     }
     b.absorption("Ca II K", 500.0, r.range(1.0, 3.0) * (1.0 - young) * 2.5);
-    b.absorption("Mg b 5173", 400.0, r.range(0.8, 2.0) * (1.0 - young) * 2.0);
+    b.absorption("Mg I 5173", 400.0, r.range(0.8, 2.0) * (1.0 - young) * 2.0);
     b.absorption("Na D2", 300.0, r.range(0.8, 2.0) * (1.0 - young) * 1.5);
 
     // Line ratios on the diagnostic diagram.
@@ -1068,11 +1068,11 @@ fn passive_galaxy(b: &mut Builder, r: &mut Rng) {
     b.absorption("H-delta", broad(500.0), r.range(1.0, 2.5));
     b.absorption("H-gamma", broad(500.0), r.range(1.0, 2.5));
     b.absorption("H-beta", broad(500.0), r.range(1.5, 3.0));
-    for name in ["Mg b 5167", "Mg b 5173", "Mg b 5184"] {
+    for name in ["Mg I 5167", "Mg I 5173", "Mg I 5184"] {
         b.absorption(name, broad(160.0), r.range(1.3, 2.2));
     }
-    b.absorption("Fe 5270", broad(200.0), r.range(2.0, 3.0));
-    b.absorption("Fe 5335", broad(200.0), r.range(1.5, 2.5));
+    b.absorption("Fe I 5270", broad(200.0), r.range(2.0, 3.0));
+    b.absorption("Fe I 5328", broad(200.0), r.range(1.5, 2.5));
     b.absorption("Na D2", broad(150.0), r.range(1.3, 2.5));
     b.absorption("Na D1", broad(150.0), r.range(1.2, 2.3));
     b.absorption("H-alpha", broad(500.0), r.range(1.0, 2.0));
@@ -1099,17 +1099,17 @@ fn quasar(b: &mut Builder, r: &mut Rng) {
     let c4_shift = -r.range(0.0, 600.0);
     b.param("civ_shift_kms", c4_shift);
     for (name, ew_lo, ew_hi, fmul, shift) in [
-        ("Ly-alpha", 50.0, 120.0, 1.0, 0.0),
+        ("Ly-alpha broad", 50.0, 120.0, 1.0, 0.0),
         ("N V 1240", 8.0, 25.0, 0.8, 0.0),
-        ("Si IV 1397", 4.0, 12.0, 1.0, 0.6 * c4_shift),
+        ("Si IV+O IV] 1400", 4.0, 12.0, 1.0, 0.6 * c4_shift),
         ("C IV 1549", 20.0, 50.0, 1.0, c4_shift),
         ("He II 1640", 1.0, 4.0, 1.0, 0.0),
         ("C III] 1909", 12.0, 30.0, 1.2, 0.0),
-        ("Mg II 2799", 20.0, 50.0, 0.9, 0.0),
+        ("Mg II 2798", 20.0, 50.0, 0.9, 0.0),
         ("H-delta", 4.0, 10.0, 1.0, 0.0),
-        ("H-gamma", 8.0, 20.0, 1.0, 0.0),
-        ("H-beta", 30.0, 70.0, 1.0, 0.0),
-        ("H-alpha", 150.0, 350.0, 0.9, 0.0),
+        ("H-gamma broad", 8.0, 20.0, 1.0, 0.0),
+        ("H-beta broad", 30.0, 70.0, 1.0, 0.0),
+        ("H-alpha broad", 150.0, 350.0, 0.9, 0.0),
     ] {
         let ew = r.range(ew_lo, ew_hi);
         b.emission_ew(name, shift, f0 * fmul, ew);
@@ -1127,7 +1127,7 @@ fn quasar(b: &mut Builder, r: &mut Rng) {
         let s_a = 1.0 + za;
         let ew1 = r.range(0.5, 2.5);
         let ew2 = ew1 * r.range(0.5, 1.0);
-        for (name, ew) in [("Mg II 2796", ew1), ("Mg II 2804", ew2)] {
+        for (name, ew) in [("Mg II 2796", ew1), ("Mg II 2803", ew2)] {
             let obs = rest(name) * s_a;
             Builder::gaussian_absorption(&b.fine, &mut b.trans, obs, 40.0, ew * s_a);
             b.nuisances.push(PlacedNuisance {

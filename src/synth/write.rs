@@ -451,7 +451,7 @@ fn text(s: &Spectrum, medium: Medium, sep: &str, header_row: bool) -> Vec<u8> {
         kv(&k.to_ascii_lowercase(), v.clone());
     }
     if let Some(n) = &meta.site.name {
-        kv("observat", n.clone());
+        kv("observatory", n.clone());
     }
     if let Some(ra) = meta.ra_deg {
         kv("ra", format!("{ra}"));
