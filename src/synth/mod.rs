@@ -29,6 +29,7 @@ mod fits;
 mod model;
 pub mod restlines;
 pub mod rng;
+pub mod set;
 pub mod write;
 use crate::lines::{LineKind, ObjectClass};
 use crate::spectrum::{Medium, Metadata, Spectrum};
