@@ -157,12 +157,17 @@ pub(crate) fn native_ivar(
             let j = wave.partition_point(|&w| w < lam).clamp(1, n - 1);
             2.5 * (wave[j] - wave[j - 1])
         };
-        for f in catalogue
-            .foreground
-            .iter()
-            .filter(|f| f.kind == ForegroundKind::Sky && f.strength >= 0.2)
-        {
-            let pad = pad_of(f.lo).max(1.5);
+        // Telluric bands too: absorption there is the atmosphere's, and a
+        // band pulls any local continuum down so that its edges look like
+        // emission. Those pixels carry no information about the target.
+        for f in catalogue.foreground.iter().filter(|f| {
+            (f.kind == ForegroundKind::Sky && f.strength >= 0.2) || f.kind == ForegroundKind::Telluric
+        }) {
+            let pad = if f.kind == ForegroundKind::Sky {
+                pad_of(f.lo).max(1.5)
+            } else {
+                pad_of(f.lo)
+            };
             let lo = f.lo - pad;
             let hi = f.hi + pad;
             if hi < wave[0] || lo > wave[n - 1] {
@@ -239,9 +244,9 @@ pub(crate) fn resample(wave: &[f64], flux: &[f64], ivar: &[f64]) -> Option<LogGr
 }
 
 /// Robust running continuum: medians of good pixels in windows of `win`
-/// pixels on nodes half a window apart, linearly interpolated; then once
-/// more without pixels more than 3 sigma off the first pass. Gaps are filled
-/// from the nearest node.
+/// pixels on nodes half a window apart, each placed at the mean position of
+/// its pixels, linearly interpolated (and extrapolated at the ends); then
+/// once more without pixels more than 3 sigma off the first pass.
 pub(crate) fn running_continuum(flux: &[f64], ivar: &[f64], win: usize) -> Vec<f64> {
     let n = flux.len();
     let win = win.max(5).min(n.max(5));
@@ -257,11 +262,20 @@ pub(crate) fn running_continuum(flux: &[f64], ivar: &[f64], win: usize) -> Vec<f
             let lo = c.saturating_sub(half);
             let hi = (c + half + 1).min(n);
             scratch.clear();
-            scratch.extend((lo..hi).filter(|&i| keep[i]).map(|i| flux[i]));
+            let mut xs = 0.0;
+            for i in (lo..hi).filter(|&i| keep[i]) {
+                scratch.push(flux[i]);
+                xs += i as f64;
+            }
             if scratch.len() >= 3.max(win / 8) {
+                // The node sits at the mean position of the pixels used, so
+                // a truncated window at an end or a gap follows a slope.
+                let xm = xs / scratch.len() as f64;
                 let k = scratch.len() / 2;
                 scratch.select_nth_unstable_by(k, f64::total_cmp);
-                nodes.push((c as f64, scratch[k]));
+                if nodes.last().is_none_or(|l: &(f64, f64)| xm > l.0 + 0.5) {
+                    nodes.push((xm, scratch[k]));
+                }
             }
             if c + 1 >= n {
                 break;
@@ -277,10 +291,17 @@ pub(crate) fn running_continuum(flux: &[f64], ivar: &[f64], win: usize) -> Vec<f
             while k + 1 < nodes.len() && nodes[k + 1].0 <= x {
                 k += 1;
             }
-            *out = if x <= nodes[0].0 {
+            let m = nodes.len();
+            *out = if m == 1 {
                 nodes[0].1
-            } else if k + 1 >= nodes.len() {
-                nodes[nodes.len() - 1].1
+            } else if x <= nodes[0].0 {
+                let (xa, ya) = nodes[0];
+                let (xb, yb) = nodes[1];
+                ya + (yb - ya) * (x - xa) / (xb - xa)
+            } else if k + 1 >= m {
+                let (xa, ya) = nodes[m - 2];
+                let (xb, yb) = nodes[m - 1];
+                yb + (yb - ya) * (x - xb) / (xb - xa)
             } else {
                 let (xa, ya) = nodes[k];
                 let (xb, yb) = nodes[k + 1];
@@ -348,8 +369,21 @@ fn matched_filter_direct(wr: &[f64], w: &[f64], sigma_px: f64, out: &mut [f64]) 
     }
 }
 
-/// Fill continua and matched-filter maps.
-pub(crate) fn build_maps(grid: &mut LogGrid) {
+/// Telluric bands of the catalogue as ln(lambda) ranges, widened by `pad`
+/// (fraction of lambda).
+pub(crate) fn telluric_bands(catalogue: &Catalogue, pad: f64) -> Vec<(f64, f64)> {
+    catalogue
+        .foreground
+        .iter()
+        .filter(|f| f.kind == ForegroundKind::Telluric && f.lo > 0.0 && f.hi >= f.lo)
+        .map(|f| (f.lo.ln() - pad, f.hi.ln() + pad))
+        .collect()
+}
+
+/// Fill continua and matched-filter maps. Absorption inside the telluric
+/// `bands` (ln lambda) is the atmosphere's, not the target's: those pixels
+/// carry no absorption evidence.
+pub(crate) fn build_maps(grid: &mut LogGrid, bands: &[(f64, f64)]) {
     let n = grid.len();
     let vstep = grid.step * C_KM_S;
     let win_n = (NARROW_WINDOW_KMS / vstep).round() as usize;
@@ -423,6 +457,14 @@ pub(crate) fn build_maps(grid: &mut LogGrid) {
             if -v > maps.ab_broad[i] {
                 maps.ab_broad[i] = -v;
             }
+        }
+    }
+    for &(a, b) in bands {
+        let ia = grid.index_of(a).floor().max(0.0) as usize;
+        let ib = (grid.index_of(b).ceil().max(0.0) as usize).min(n);
+        for i in ia.min(n)..ib {
+            maps.ab_narrow[i] = 0.0;
+            maps.ab_broad[i] = 0.0;
         }
     }
     grid.maps = maps;

@@ -370,8 +370,9 @@ impl Identifier {
             return None;
         }
         let mut g = grid::resample(&spectrum.wave, &spectrum.flux, &ivar)?;
+        let telluric = grid::telluric_bands(&self.catalogue, 0.001);
         if maps {
-            grid::build_maps(&mut g);
+            grid::build_maps(&mut g, &telluric);
         } else {
             let v = g.step * crate::physics::constants::C_KM_S;
             g.cont_narrow = grid::running_continuum(&g.flux, &g.ivar, (6000.0 / v) as usize);
@@ -399,6 +400,7 @@ impl Identifier {
                 ivar,
                 cont_narrow,
                 cont_broad,
+                telluric,
             },
             grid: g,
         })
@@ -518,7 +520,10 @@ impl Identifier {
         let lya = 1215.67f64.ln();
         if let Some(q) = scored
             .iter()
-            .filter(|c| c.hypothesis == Hypothesis::Qso && c.forest.is_some_and(|d| d > 0.15))
+            .filter(|c| {
+                c.hypothesis == Hypothesis::Qso
+                    && c.notes.iter().any(|n| n.starts_with("Lyman-alpha forest"))
+            })
             .max_by(|a, b| a.score.total_cmp(&b.score))
         {
             let edge = lya + q.s;

@@ -13,7 +13,7 @@
 
 use super::xcorr::{Channel, Comb, Hypothesis};
 use super::{Feature, FeatureKind};
-use crate::lines::{Catalogue, LineKind, Width};
+use crate::lines::{Catalogue, LineKind};
 use crate::physics::constants::C_KM_S;
 
 /// Native-pixel data the fits work on.
@@ -31,6 +31,8 @@ pub(crate) struct Native<'a> {
     pub cont_narrow: Vec<f64>,
     /// Continuum for broad lines.
     pub cont_broad: Vec<f64>,
+    /// Telluric bands, ln(lambda): absorption lines there are not measured.
+    pub telluric: Vec<(f64, f64)>,
 }
 
 /// Width groups sharing one velocity width in a joint fit.
@@ -78,7 +80,7 @@ pub(crate) struct JointFit {
     pub lines: Vec<FitLine>,
     /// Amplitudes (flux units; emission > 0).
     pub amp: Vec<f64>,
-    /// Their 1-sigma errors (scaled by the reduced chi-square when > 1).
+    /// Their 1-sigma errors (from the given noise, unscaled).
     pub amp_err: Vec<f64>,
     /// Per-line velocity offsets from the common z, km/s (0 when not measured).
     pub offset_kms: Vec<f64>,
@@ -146,7 +148,9 @@ pub(crate) fn lines_for(
                 }
             },
         };
-        let _ = Width::Narrow;
+        if sign == Sign::Negative && native.telluric.iter().any(|&(a, b)| x > a && x < b) {
+            continue;
+        }
         out.push(FitLine {
             line: t.line,
             ln_rest: t.ln_rest,
@@ -441,7 +445,10 @@ pub(crate) fn joint_fit(
     } else {
         sig_min
     };
-    let amp_err: Vec<f64> = ev.var.iter().map(|v| (v * scale).sqrt()).collect();
+    // Amplitude errors stay unscaled: candidates of one spectrum are compared
+    // by their chi-square gains, which a per-fit scale would distort (a rich
+    // fit with one imperfect line would lose to a one-line fit).
+    let amp_err: Vec<f64> = ev.var.iter().map(|v| v.sqrt()).collect();
     let mut fit = JointFit {
         s,
         s_err,

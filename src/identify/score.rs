@@ -1,21 +1,23 @@
 //! Scoring a refined candidate with physics.
 //!
-//! The evidence is the chi-square gain of each fitted line with the right
-//! sign, `max((S/N)^2 - 2, 0)`, summed: a likelihood-ratio statistic with a
-//! charge per free amplitude. From it are taken:
+//! The evidence is the chi-square gain of the joint fit over the continuum
+//! alone, less 2 per free amplitude: a likelihood-ratio statistic with a
+//! charge per parameter. From it are taken:
 //!
 //! - **ratio checks**: every fixed ratio of the catalogue (e.g. [O III]
 //!   5007/4959, [N II] 6584/6548) whose two lines were fitted, and the Balmer
 //!   decrement, which dust can only raise above its Case B value; a measured
 //!   ratio outside the allowed range costs `(deviation / error)^2 - 4`;
 //! - **absent lines**: a strong catalogue line of the same group inside the
-//!   observed range, expected at a quarter of the strongest line's
+//!   observed range, expected at an eighth of the strongest line's
 //!   strength-scaled amplitude but not seen, costs the square of the shortfall;
 //! - **Lyman-alpha forest**: a flux drop blueward of a quasar candidate's
 //!   Lyman-alpha is evidence for it.
 //!
 //! A quasar candidate needs broad lines: with none significant it is
-//! dropped; with only one, and nothing else agreeing, its score is halved.
+//! dropped; with only one, and fewer than two narrow lines agreeing, its
+//! score is cut to 40% (a calibration ripple or a continuum break makes one
+//! broad bump easily, two at the right spacing rarely).
 
 use super::redshift::{Group, JointFit, Native};
 use super::xcorr::Hypothesis;
@@ -135,42 +137,43 @@ pub(crate) fn measure(native: &Native, fit: &JointFit) -> Vec<LineMeasure> {
 }
 
 /// Forest depth for a quasar at ln(1+z) = `s`: 1 - median(flux, rest
-/// 1050-1170 A) / median(flux, rest 1280-1380 A), with its error; `None`
-/// when either window has too few good pixels.
-pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<(f64, f64)> {
-    let window = |a: f64, b: f64| -> Vec<f64> {
+/// 1050-1170 A) / median(flux, rest 1280-1380 A), with its error, and the
+/// excess of pixels lying 2.5 sigma below the narrow continuum in the blue
+/// window over the red one (many narrow absorbers: a forest, not a
+/// continuum break). `None` when either window has too few good pixels.
+pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<(f64, f64, f64)> {
+    let range = |a: f64, b: f64| -> (usize, usize) {
         let (la, lb) = (a.ln() + s, b.ln() + s);
-        let i = native.lnw.partition_point(|&v| v < la);
-        let j = native.lnw.partition_point(|&v| v <= lb);
-        (i..j)
-            .filter(|&k| native.ivar[k] > 0.0)
-            .map(|k| native.flux[k])
-            .collect()
+        (
+            native.lnw.partition_point(|&v| v < la),
+            native.lnw.partition_point(|&v| v <= lb),
+        )
     };
-    let med = |mut v: Vec<f64>| -> Option<(f64, usize)> {
-        if v.len() < 15 {
+    let stats = |a: f64, b: f64| -> Option<(f64, usize, f64, f64)> {
+        let (i, j) = range(a, b);
+        let good: Vec<usize> = (i..j).filter(|&k| native.ivar[k] > 0.0).collect();
+        if good.len() < 15 {
             return None;
         }
+        let mut v: Vec<f64> = good.iter().map(|&k| native.flux[k]).collect();
         let m = v.len() / 2;
         v.select_nth_unstable_by(m, f64::total_cmp);
-        Some((v[m], v.len()))
+        let dips = good
+            .iter()
+            .filter(|&&k| (native.cont_narrow[k] - native.flux[k]) * native.ivar[k].sqrt() > 2.5)
+            .count() as f64
+            / good.len() as f64;
+        let sig = good.iter().map(|&k| 1.0 / native.ivar[k].sqrt()).sum::<f64>() / good.len() as f64;
+        Some((v[m], good.len(), dips, sig))
     };
-    let (b, nb) = med(window(1050.0, 1170.0))?;
-    let (r, nr) = med(window(1280.0, 1380.0))?;
+    let (b, nb, dips_b, _) = stats(1050.0, 1170.0)?;
+    let (r, nr, dips_r, sig_r) = stats(1280.0, 1380.0)?;
     if r <= 0.0 {
         return None;
     }
-    // Noise of the red median (1.25 sigma / sqrt N for a median).
-    let lr = (1280.0f64.ln() + s, 1380.0f64.ln() + s);
-    let i = native.lnw.partition_point(|&v| v < lr.0);
-    let j = native.lnw.partition_point(|&v| v <= lr.1);
-    let sig: Vec<f64> = (i..j)
-        .filter(|&k| native.ivar[k] > 0.0)
-        .map(|k| 1.0 / native.ivar[k].sqrt())
-        .collect();
-    let s_red = sig.iter().sum::<f64>() / sig.len().max(1) as f64;
-    let err = 1.25 * s_red / (nr.min(nb) as f64).sqrt() / r * 2f64.sqrt();
-    Some((1.0 - b / r, err))
+    // Noise of a median: 1.25 sigma / sqrt N.
+    let err = 1.25 * sig_r / (nr.min(nb) as f64).sqrt() / r * 2f64.sqrt();
+    Some((1.0 - b / r, err, dips_b - dips_r))
 }
 
 /// Score a fit. `forest_edge`: when a quasar's forest has been recognised,
@@ -185,15 +188,24 @@ pub(crate) fn score(
 ) -> Scored {
     let mut lines = measure(native, fit);
     let mut notes = Vec::new();
+    // The joint chi-square gain (exact, also for blends and unresolved
+    // doublets whose members are each poorly determined), less a charge of
+    // 2 per free amplitude.
+    let n_active = fit.amp.iter().filter(|a| **a != 0.0).count() as f64;
+    let mut evidence = (fit.gain - 2.0 * n_active).max(0.0);
     if let (Some(edge), true) = (forest_edge, hypothesis != Hypothesis::Qso) {
         let before = lines.len();
+        let dropped: f64 = lines
+            .iter()
+            .filter(|m| m.snr < 0.0 && m.observed.ln() < edge)
+            .map(|m| m.snr * m.snr)
+            .sum();
+        evidence = (evidence - dropped).max(0.0);
         lines.retain(|m| !(m.snr < 0.0 && m.observed.ln() < edge));
         if lines.len() < before {
             notes.push("absorptions in the Lyman-alpha forest ignored".to_string());
         }
     }
-    let gain = |m: &LineMeasure| (m.snr * m.snr - 2.0).max(0.0);
-    let evidence: f64 = lines.iter().map(gain).sum();
     let mut penalty = 0.0;
     let name_of = |i: usize| cat.lines[i].name.as_str();
     let find = |name: &str| lines.iter().find(|m| name_of(m.line) == name);
@@ -244,7 +256,7 @@ pub(crate) fn score(
     }
     // Absent strong lines, per group, relative to the strongest line.
     for group in [Group::EmNarrow, Group::EmBroad, Group::AbNarrow] {
-        let frac = if group == Group::AbNarrow { 0.15 } else { 0.25 };
+        let frac = if group == Group::AbNarrow { 0.08 } else { 0.12 };
         let in_group: Vec<&LineMeasure> = lines
             .iter()
             .filter(|m| m.group == group && m.npix >= 3)
@@ -271,14 +283,14 @@ pub(crate) fn score(
             let seen = m.snr.abs();
             let short = pred - seen - 2.0;
             if short > 0.0 {
-                group_pen += (short * short).min(40.0);
+                group_pen += (short * short).min(25.0);
                 missing.push(name_of(m.line).to_string());
             }
         }
         if !missing.is_empty() {
             notes.push(format!("missing {}", missing.join(", ")));
         }
-        penalty += group_pen.min(150.0);
+        penalty += group_pen.min(100.0);
     }
     let n_sig = lines.iter().filter(|m| m.snr.abs() >= 4.0).count();
     let n_broad = lines
@@ -289,9 +301,9 @@ pub(crate) fn score(
     let mut score = evidence - penalty;
     let mut forest = None;
     if hypothesis == Hypothesis::Qso {
-        if let Some((depth, err)) = forest_depth(native, fit.s) {
+        if let Some((depth, err, dips)) = forest_depth(native, fit.s) {
             forest = Some(depth);
-            if depth > 0.1 && depth > 3.0 * err {
+            if depth > 0.1 && depth > 3.0 * err && dips > 0.02 {
                 let bonus = (100.0 * depth).min(60.0);
                 score += bonus;
                 notes.push(format!("Lyman-alpha forest, flux drop {:.0}%", 100.0 * depth));
@@ -301,12 +313,11 @@ pub(crate) fn score(
             .iter()
             .filter(|m| m.group == Group::EmNarrow && m.snr >= 4.0)
             .count();
-        let forest_seen = forest.is_some_and(|d| d > 0.15);
         if n_broad == 0 {
             score = score.min(0.0);
             notes.push("no broad line".to_string());
-        } else if n_broad == 1 && narrow_sig == 0 && !forest_seen {
-            score *= 0.5;
+        } else if n_broad == 1 && narrow_sig < 2 {
+            score *= 0.4;
             notes.push("a single broad line".to_string());
         }
     }

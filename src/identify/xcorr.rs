@@ -117,6 +117,18 @@ pub(crate) fn build_combs(cat: &Catalogue) -> Vec<Comb> {
                 gal.push(tooth(Channel::AbNarrow));
             }
         }
+        // The quasar model nests the galaxy's narrow emission lines, so a
+        // broad line is credited only for flux the narrow ones cannot take.
+        if has(&l.classes, ObjectClass::Galaxy)
+            && !has(&l.classes, ObjectClass::Qso)
+            && emis
+            && l.width == Width::Narrow
+        {
+            qso.push(Tooth {
+                weight: 0.3 * weight,
+                ..tooth(Channel::EmNarrow)
+            });
+        }
         if has(&l.classes, ObjectClass::Qso) && emis {
             match l.width {
                 Width::Broad => qso.push(tooth(Channel::EmBroad)),
