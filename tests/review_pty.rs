@@ -14,7 +14,9 @@ fn write_spectrum(path: &Path, name: &str, line_at: f64) {
     let mut s = format!("# object: {name}\n# medium: vacuum\nwavelength,flux,error\n");
     for i in 0..1500 {
         let w = 4000.0 + 3.0 * i as f64;
-        let f = 1.0 + 4.0 * (-0.5 * ((w - line_at) / 4.0_f64).powi(2)).exp() + 0.02 * ((i * 7919 % 13) as f64 - 6.0) / 6.0;
+        let f = 1.0
+            + 4.0 * (-0.5 * ((w - line_at) / 4.0_f64).powi(2)).exp()
+            + 0.02 * ((i * 7919 % 13) as f64 - 6.0) / 6.0;
         s.push_str(&format!("{w:.2},{f:.5},0.02\n"));
     }
     std::fs::write(path, s).expect("write spectrum");
@@ -30,7 +32,10 @@ fn wait_for(log: &Path, what: &str, ok: impl Fn(&zsift::decisions::Replay) -> bo
         {
             return;
         }
-        assert!(start.elapsed() < Duration::from_secs(20), "timed out waiting for {what}");
+        assert!(
+            start.elapsed() < Duration::from_secs(20),
+            "timed out waiting for {what}"
+        );
         std::thread::sleep(Duration::from_millis(50));
     }
 }
@@ -49,7 +54,9 @@ fn spawn(dir: &Path, log: &Path) -> OsSession {
         .env_remove("LC_CTYPE")
         .env("TERM", "xterm-256color");
     let mut p = Session::spawn(cmd).expect("spawn zsift in a pty");
-    p.get_process_mut().set_window_size(80, 24).expect("window size");
+    p.get_process_mut()
+        .set_window_size(80, 24)
+        .expect("window size");
     p.set_expect_timeout(Some(Duration::from_secs(20)));
     p
 }
@@ -60,7 +67,11 @@ fn deciding_three_targets_in_a_pty_writes_them_to_the_log_and_quit_restores_the_
     let q = tmp.path().join("queue");
     std::fs::create_dir_all(&q).expect("queue dir");
     for (i, name) in ["Wren-1", "Wren-2", "Wren-3", "Wren-4"].iter().enumerate() {
-        write_spectrum(&q.join(format!("{name}.csv")), name, 5000.0 + 300.0 * i as f64);
+        write_spectrum(
+            &q.join(format!("{name}.csv")),
+            name,
+            5000.0 + 300.0 * i as f64,
+        );
     }
     let log = tmp.path().join("log");
     let mut p = spawn(tmp.path(), &log);
@@ -71,15 +82,20 @@ fn deciding_three_targets_in_a_pty_writes_them_to_the_log_and_quit_restores_the_
     p.send("f").expect("send");
     wait_for(&log, "flag", |r| r.status("Wren-2") == Status::Flagged);
     p.send("tseeing 2.5 arcsec\r").expect("send note");
-    wait_for(&log, "note", |r| r.state("Wren-3").is_some_and(|s| !s.notes.is_empty()));
+    wait_for(&log, "note", |r| {
+        r.state("Wren-3").is_some_and(|s| !s.notes.is_empty())
+    });
     p.send("r").expect("send");
-    wait_for(&log, "second reject", |r| r.status("Wren-3") == Status::Rejected);
+    wait_for(&log, "second reject", |r| {
+        r.status("Wren-3") == Status::Rejected
+    });
     // The help overlay opens and closes.
     p.send("?").expect("send");
     p.expect("Keys (any key closes)").expect("help shown");
     p.send("x").expect("send");
     p.send("q").expect("send");
-    p.expect("entries written this session").expect("goodbye line");
+    p.expect("entries written this session")
+        .expect("goodbye line");
     // Leaving the alternate screen is the last thing the review draws.
     p.expect(Eof).expect("exits");
 
@@ -101,7 +117,11 @@ fn a_second_session_starts_at_the_first_undecided_target_and_undo_reverts_in_the
     let q = tmp.path().join("queue");
     std::fs::create_dir_all(&q).expect("queue dir");
     for (i, name) in ["Lark-1", "Lark-2", "Lark-3"].iter().enumerate() {
-        write_spectrum(&q.join(format!("{name}.csv")), name, 5200.0 + 250.0 * i as f64);
+        write_spectrum(
+            &q.join(format!("{name}.csv")),
+            name,
+            5200.0 + 250.0 * i as f64,
+        );
     }
     let log = tmp.path().join("log");
     let mut p = spawn(tmp.path(), &log);
@@ -112,7 +132,8 @@ fn a_second_session_starts_at_the_first_undecided_target_and_undo_reverts_in_the
     p.expect(Eof).expect("exits");
 
     let mut p = spawn(tmp.path(), &log);
-    p.expect("2/3").expect("resumes at the first undecided target");
+    p.expect("2/3")
+        .expect("resumes at the first undecided target");
     p.send("f").expect("send");
     wait_for(&log, "flag", |r| r.status("Lark-2") == Status::Flagged);
     p.send("u").expect("send");
@@ -139,9 +160,16 @@ fn sigterm_restores_the_terminal_and_keeps_every_saved_decision() {
     p.send("r").expect("send");
     p.expect("saved:").expect("saved");
     let pid = p.get_process().pid();
-    let killed = Command::new("kill").arg("-TERM").arg(pid.to_string()).status().expect("kill");
+    let killed = Command::new("kill")
+        .arg("-TERM")
+        .arg(pid.to_string())
+        .status()
+        .expect("kill");
     assert!(killed.success());
     p.expect("stopped by SIGTERM").expect("says why");
     p.expect(Eof).expect("exits");
-    assert_eq!(replay(&log).expect("replay").status("Tern-1"), Status::Rejected);
+    assert_eq!(
+        replay(&log).expect("replay").status("Tern-1"),
+        Status::Rejected
+    );
 }
