@@ -152,10 +152,9 @@ where
                                 z,
                                 candidate,
                             }),
-                            Err(message) => queue.push_back(Msg::RemeasureFailed {
-                                target,
-                                message,
-                            }),
+                            Err(message) => {
+                                queue.push_back(Msg::RemeasureFailed { target, message })
+                            }
                         }
                     }
                 }
@@ -220,10 +219,15 @@ pub fn run(
     enable_raw_mode()?;
     TERMINAL_TAKEN.store(true, Ordering::SeqCst);
     let _guard = Guard;
-    execute!(std::io::stdout(), EnterAlternateScreen)?;
+    // Terminal::clear would ask the terminal for the cursor position, which
+    // some pseudo-terminals never answer; clearing directly needs no reply.
+    execute!(
+        std::io::stdout(),
+        EnterAlternateScreen,
+        crossterm::terminal::Clear(crossterm::terminal::ClearType::All)
+    )?;
     let mut terminal = Terminal::new(CrosstermBackend::new(std::io::stdout()))?;
     terminal.hide_cursor()?;
-    terminal.clear()?;
     spawn_input(tx);
     let summary = event_loop(
         &mut terminal,
