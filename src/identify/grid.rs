@@ -161,7 +161,8 @@ pub(crate) fn native_ivar(
         // band pulls any local continuum down so that its edges look like
         // emission. Those pixels carry no information about the target.
         for f in catalogue.foreground.iter().filter(|f| {
-            (f.kind == ForegroundKind::Sky && f.strength >= 0.2) || f.kind == ForegroundKind::Telluric
+            (f.kind == ForegroundKind::Sky && f.strength >= 0.2)
+                || f.kind == ForegroundKind::Telluric
         }) {
             let pad = if f.kind == ForegroundKind::Sky {
                 pad_of(f.lo).max(1.5)

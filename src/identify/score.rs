@@ -163,7 +163,11 @@ pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<(f64, f64, f64)> {
             .filter(|&&k| (native.cont_narrow[k] - native.flux[k]) * native.ivar[k].sqrt() > 2.5)
             .count() as f64
             / good.len() as f64;
-        let sig = good.iter().map(|&k| 1.0 / native.ivar[k].sqrt()).sum::<f64>() / good.len() as f64;
+        let sig = good
+            .iter()
+            .map(|&k| 1.0 / native.ivar[k].sqrt())
+            .sum::<f64>()
+            / good.len() as f64;
         Some((v[m], good.len(), dips, sig))
     };
     let (b, nb, dips_b, _) = stats(1050.0, 1170.0)?;
@@ -306,7 +310,10 @@ pub(crate) fn score(
             if depth > 0.1 && depth > 3.0 * err && dips > 0.02 {
                 let bonus = (100.0 * depth).min(60.0);
                 score += bonus;
-                notes.push(format!("Lyman-alpha forest, flux drop {:.0}%", 100.0 * depth));
+                notes.push(format!(
+                    "Lyman-alpha forest, flux drop {:.0}%",
+                    100.0 * depth
+                ));
             }
         }
         let narrow_sig = lines
@@ -392,7 +399,10 @@ mod tests {
 
     #[test]
     fn a_ratio_inside_its_range_costs_nothing() {
-        assert_eq!(ratio_penalty(&lm(30.0, 1.0), &lm(10.0, 1.0), (2.8, 3.2)), Some(0.0));
+        assert_eq!(
+            ratio_penalty(&lm(30.0, 1.0), &lm(10.0, 1.0), (2.8, 3.2)),
+            Some(0.0)
+        );
     }
 
     #[test]
