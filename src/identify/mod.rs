@@ -317,7 +317,6 @@ impl Identifier {
         Some(Prepared {
             native: Native {
                 lnw,
-                wave: &spectrum.wave,
                 flux: &spectrum.flux,
                 ivar,
                 cont_narrow,

@@ -67,8 +67,6 @@ pub(crate) struct Scored {
     pub s_err: f64,
     /// Final score.
     pub score: f64,
-    /// Evidence before penalties.
-    pub evidence: f64,
     /// Lines measured.
     pub lines: Vec<LineMeasure>,
     /// Notes for the reason: penalties and bonuses.
@@ -77,8 +75,6 @@ pub(crate) struct Scored {
     pub penalty: f64,
     /// Number of lines with |S/N| >= 4.
     pub n_sig: usize,
-    /// Number of broad lines with S/N >= 4.
-    pub n_broad: usize,
     /// Strongest |S/N|.
     pub max_snr: f64,
     /// Forest depth (1 - blue/red flux ratio) when measured.
@@ -333,12 +329,10 @@ pub(crate) fn score(
         s: fit.s,
         s_err: fit.s_err,
         score,
-        evidence,
         lines,
         notes,
         penalty,
         n_sig,
-        n_broad,
         max_snr,
         forest,
     }
@@ -355,7 +349,7 @@ pub(crate) fn ratio_penalty(n: &LineMeasure, d: &LineMeasure, range: (f64, f64))
         1.0
     };
     let (fnum, fden) = (sign * n.flux, sign * d.flux);
-    if !(d.flux_err > 0.0) || !(n.flux_err > 0.0) {
+    if d.flux_err.is_nan() || n.flux_err.is_nan() || d.flux_err <= 0.0 || n.flux_err <= 0.0 {
         return None;
     }
     let fden_eff = fden.max(d.flux_err);
