@@ -75,7 +75,7 @@ pub fn calzetti_k(lambda_um: f64) -> f64 {
 /// Colour excess E(B-V) from an observed H-alpha/H-beta ratio, against Case
 /// B 2.86 with the Calzetti curve (0 when the ratio is at or below Case B).
 pub fn ebv_from_decrement(ratio: f64) -> f64 {
-    if !(ratio > CASE_B_HALPHA_HBETA) {
+    if ratio.is_nan() || ratio <= CASE_B_HALPHA_HBETA {
         return 0.0;
     }
     let dk = calzetti_k(0.48627) - calzetti_k(0.65646);

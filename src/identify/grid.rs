@@ -6,6 +6,10 @@
 //! Everything here is private to the identifier; the public per-pixel
 //! products (sigma, continuum, features) come from the lower layers.
 
+// Index loops over several parallel slices read more clearly than zipped
+// iterators in this numerical code.
+#![allow(clippy::needless_range_loop)]
+
 use crate::lines::{Catalogue, ForegroundKind};
 use crate::physics::constants::C_KM_S;
 
@@ -39,8 +43,6 @@ pub(crate) struct Maps {
     pub em_narrow_width: Vec<u8>,
     /// Index into [`NARROW_FWHM_KMS`] of the best absorption kernel.
     pub ab_narrow_width: Vec<u8>,
-    /// Index into [`BROAD_FWHM_KMS`] of the best broad emission kernel.
-    pub em_broad_width: Vec<u8>,
 }
 
 /// A spectrum resampled on a uniform ln(lambda) grid.
@@ -75,7 +77,7 @@ impl LogGrid {
 
     /// Linear interpolation of `a` at fractional index `t` (0 outside).
     pub fn sample(a: &[f64], t: f64) -> f64 {
-        if !(t >= 0.0) || t > (a.len() - 1) as f64 {
+        if t.is_nan() || t < 0.0 || t > (a.len() - 1) as f64 {
             return 0.0;
         }
         let i = t.floor() as usize;
@@ -161,7 +163,8 @@ pub(crate) fn native_ivar(
         // band pulls any local continuum down so that its edges look like
         // emission. Those pixels carry no information about the target.
         for f in catalogue.foreground.iter().filter(|f| {
-            (f.kind == ForegroundKind::Sky && f.strength >= 0.2) || f.kind == ForegroundKind::Telluric
+            (f.kind == ForegroundKind::Sky && f.strength >= 0.2)
+                || f.kind == ForegroundKind::Telluric
         }) {
             let pad = if f.kind == ForegroundKind::Sky {
                 pad_of(f.lo).max(1.5)
@@ -417,7 +420,6 @@ pub(crate) fn build_maps(grid: &mut LogGrid, bands: &[(f64, f64)]) {
         ab_broad: vec![0.0; n],
         em_narrow_width: vec![0; n],
         ab_narrow_width: vec![0; n],
-        em_broad_width: vec![0; n],
     };
     let mut tmp = vec![0.0; n];
     let min_sigma = 1.0;
@@ -445,14 +447,13 @@ pub(crate) fn build_maps(grid: &mut LogGrid, bands: &[(f64, f64)]) {
     }
     // The broad maps see the flux with narrow features replaced, minus the
     // wide continuum.
-    for (k, &f) in BROAD_FWHM_KMS.iter().enumerate() {
+    for &f in BROAD_FWHM_KMS.iter() {
         let s = spx(f);
         matched_filter(&wr_b, w, s, &mut tmp);
         for i in 0..n {
             let v = tmp[i];
             if v > maps.em_broad[i] {
                 maps.em_broad[i] = v;
-                maps.em_broad_width[i] = k as u8;
             }
             if -v > maps.ab_broad[i] {
                 maps.ab_broad[i] = -v;

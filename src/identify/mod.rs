@@ -233,94 +233,7 @@ pub struct Identifier {
 
 /// Relativistic velocity (km/s) of redshift `z`.
 fn velocity_of(z: f64) -> f64 {
-    let a = (1.0 + z) * (1.0 + z);
-    crate::physics::constants::C_KM_S * (a - 1.0) / (a + 1.0)
-}
-
-/// Robust per-pixel sigma: the file's where present, else the median
-/// absolute deviation of first differences / (sqrt(2) x 0.6745) over a
-/// running block of pixels.
-fn sigma_of(spectrum: &Spectrum) -> (Vec<f64>, Noise) {
-    let n = spectrum.len();
-    let flux = &spectrum.flux;
-    let good = |i: usize| spectrum.mask[i] && flux[i].is_finite();
-    let block = 101usize;
-    let mut robust = vec![f64::NAN; n];
-    let mut d = Vec::with_capacity(block);
-    let mut c = 0;
-    while c < n {
-        let hi = (c + block).min(n);
-        d.clear();
-        for i in c.max(1)..hi {
-            if good(i) && good(i - 1) {
-                d.push((flux[i] - flux[i - 1]).abs());
-            }
-        }
-        let v = if d.len() >= 5 {
-            let m = d.len() / 2;
-            d.select_nth_unstable_by(m, f64::total_cmp);
-            d[m] / (std::f64::consts::SQRT_2 * 0.6745)
-        } else {
-            f64::NAN
-        };
-        robust[c..hi].iter_mut().for_each(|x| *x = v);
-        c = hi;
-    }
-    let fill = {
-        let mut v: Vec<f64> = robust
-            .iter()
-            .copied()
-            .filter(|x| x.is_finite() && *x > 0.0)
-            .collect();
-        if v.is_empty() {
-            1.0
-        } else {
-            let m = v.len() / 2;
-            v.select_nth_unstable_by(m, f64::total_cmp);
-            v[m]
-        }
-    };
-    for x in robust.iter_mut() {
-        if !(x.is_finite() && *x > 0.0) {
-            *x = fill;
-        }
-    }
-    let (sigma, estimated, ratio) = match &spectrum.sigma {
-        Some(s) => {
-            let mut r: Vec<f64> = (0..n)
-                .filter(|&i| good(i) && s[i].is_finite() && s[i] > 0.0)
-                .map(|i| robust[i] / s[i])
-                .collect();
-            let ratio = if r.is_empty() {
-                None
-            } else {
-                let m = r.len() / 2;
-                r.select_nth_unstable_by(m, f64::total_cmp);
-                Some(r[m])
-            };
-            (s.clone(), false, ratio)
-        }
-        None => (robust, true, None),
-    };
-    let mut snr: Vec<f64> = (0..n)
-        .filter(|&i| good(i) && sigma[i] > 0.0)
-        .map(|i| flux[i] / sigma[i])
-        .collect();
-    let median_snr = if snr.is_empty() {
-        0.0
-    } else {
-        let m = snr.len() / 2;
-        snr.select_nth_unstable_by(m, f64::total_cmp);
-        snr[m]
-    };
-    (
-        sigma,
-        Noise {
-            median_snr,
-            error_ratio: ratio,
-            estimated,
-        },
-    )
+    crate::physics::doppler::velocity_from_z(z)
 }
 
 /// Work shared by `analyse` and `candidate_at`: native pixels and the grid.
@@ -404,7 +317,6 @@ impl Identifier {
         Some(Prepared {
             native: Native {
                 lnw,
-                wave: &spectrum.wave,
                 flux: &spectrum.flux,
                 ivar,
                 cont_narrow,
@@ -472,10 +384,11 @@ impl Identifier {
 
     /// Analyse one spectrum: noise, continuum, features, ranked candidates.
     pub fn analyse(&self, spectrum: &Spectrum) -> Analysis {
-        let (sigma, noise) = sigma_of(spectrum);
+        let (sigma, mut noise) =
+            noise::estimate(&spectrum.flux, spectrum.sigma.as_deref(), &spectrum.mask);
         let mut warnings = Vec::new();
         if let Some(r) = noise.error_ratio
-            && !(0.5..=2.0).contains(&r)
+            && noise::ratio_is_suspect(r)
         {
             warnings.push(format!(
                 "the file's uncertainties differ from the scatter by a factor {r:.2}"
@@ -492,9 +405,40 @@ impl Identifier {
                 warnings,
             };
         };
-        let continuum = prep.native.cont_narrow.clone();
-        let features: Vec<Feature> = Vec::new();
-        let candidates = self.candidates(&prep, &features);
+        let continuum = continuum::fit(
+            &spectrum.wave,
+            &spectrum.flux,
+            &sigma,
+            &spectrum.mask,
+            &continuum::ContinuumSettings::default(),
+        );
+        noise.median_snr = noise::median_snr(&continuum, &sigma, &spectrum.mask);
+        let detect_settings = detect::DetectSettings {
+            snr_threshold: self.settings.detect_snr,
+            ..detect::DetectSettings::default()
+        };
+        let mut features = detect::find(
+            &spectrum.wave,
+            &spectrum.flux,
+            &sigma,
+            &spectrum.mask,
+            &continuum,
+            &detect_settings,
+        );
+        let resolution =
+            detect::resolution_from_lines(&features, detect::pixel_resolution_kms(&spectrum.wave));
+        detect::flag_foreground(&mut features, &self.catalogue, resolution);
+        if let Some(sky) = &spectrum.sky {
+            detect::flag_sky_spectrum(
+                &mut features,
+                &spectrum.wave,
+                sky,
+                &spectrum.mask,
+                resolution,
+            );
+        }
+        let mut candidates = self.candidates(&prep, &features);
+        link_features(&mut candidates, &features);
         Analysis {
             noise,
             sigma,
@@ -662,7 +606,7 @@ impl Identifier {
         let sigma = if analysis.sigma.len() == spectrum.len() {
             analysis.sigma.clone()
         } else {
-            sigma_of(spectrum).0
+            noise::estimate(&spectrum.flux, spectrum.sigma.as_deref(), &spectrum.mask).0
         };
         let Some(prep) = self.prepare(spectrum, &sigma, false) else {
             return nothing_found();
@@ -689,7 +633,41 @@ impl Identifier {
             cand.subclass = None;
         }
         cand.rank = 1;
-        cand
+        let mut one = vec![cand];
+        link_features(&mut one, &analysis.features);
+        one.pop().unwrap_or_else(nothing_found)
+    }
+}
+
+/// Point each match at the detected feature it corresponds to: same kind,
+/// not flagged, centre within max(3 centre errors, a third of the line's
+/// FWHM).
+fn link_features(candidates: &mut [Candidate], features: &[Feature]) {
+    let c = crate::physics::constants::C_KM_S;
+    for cand in candidates.iter_mut() {
+        for m in cand.matched.iter_mut() {
+            let tol_of = |f: &Feature| {
+                (3.0 * f.wavelength_err).max(m.observed_wavelength * m.fwhm_kms / c / 3.0)
+            };
+            m.feature = features
+                .iter()
+                .enumerate()
+                .filter(|(_, f)| {
+                    f.flag.is_none()
+                        && matches!(
+                            (f.kind, m.kind),
+                            (FeatureKind::Emission, LineKind::Emission)
+                                | (FeatureKind::Absorption, LineKind::Absorption)
+                        )
+                        && (f.wavelength - m.observed_wavelength).abs() <= tol_of(f)
+                })
+                .min_by(|a, b| {
+                    (a.1.wavelength - m.observed_wavelength)
+                        .abs()
+                        .total_cmp(&(b.1.wavelength - m.observed_wavelength).abs())
+                })
+                .map(|(i, _)| i);
+        }
     }
 }
 

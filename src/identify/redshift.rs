@@ -11,6 +11,10 @@
 //! searched by parabolic interpolation. The z error comes from the curvature
 //! of chi-square, scaled by the reduced chi-square when that exceeds 1.
 
+// Index loops over several parallel slices read more clearly than zipped
+// iterators in this numerical code.
+#![allow(clippy::needless_range_loop)]
+
 use super::xcorr::{Channel, Comb, Hypothesis};
 use super::{Feature, FeatureKind};
 use crate::lines::{Catalogue, LineKind};
@@ -21,8 +25,6 @@ use crate::physics::constants::C_KM_S;
 pub(crate) struct Native<'a> {
     /// ln(lambda) of each pixel.
     pub lnw: Vec<f64>,
-    /// Wavelengths.
-    pub wave: &'a [f64],
     /// Flux.
     pub flux: &'a [f64],
     /// Inverse variance (0 for masked, spikes, sky lines).
@@ -88,8 +90,6 @@ pub(crate) struct JointFit {
     pub npix: Vec<usize>,
     /// Total chi-square improvement over the continuum alone.
     pub gain: f64,
-    /// Reduced chi-square of the fitted windows.
-    pub chi2_red: f64,
     /// Which continuum the fit used (true = broad).
     pub broad_base: bool,
 }
@@ -458,7 +458,6 @@ pub(crate) fn joint_fit(
         offset_kms: vec![0.0; lines.len()],
         npix: ev.npix,
         gain: ev.gain,
-        chi2_red,
         broad_base: broad,
         lines,
     };
@@ -551,7 +550,7 @@ pub(crate) fn vote(
     s_hi: f64,
     bin: f64,
 ) -> Vec<(f64, f64, usize)> {
-    if !(bin > 0.0) || s_hi <= s_lo {
+    if bin.is_nan() || bin <= 0.0 || s_hi <= s_lo {
         return Vec::new();
     }
     let nb = ((s_hi - s_lo) / bin).ceil() as usize + 1;
@@ -571,7 +570,7 @@ pub(crate) fn vote(
                         LineKind::Absorption | LineKind::Both
                     )
             );
-            if !ok || !(l.wavelength > 0.0) {
+            if !ok || l.wavelength.is_nan() || l.wavelength <= 0.0 {
                 continue;
             }
             let s = lo - l.wavelength.ln();

@@ -67,8 +67,6 @@ pub(crate) struct Scored {
     pub s_err: f64,
     /// Final score.
     pub score: f64,
-    /// Evidence before penalties.
-    pub evidence: f64,
     /// Lines measured.
     pub lines: Vec<LineMeasure>,
     /// Notes for the reason: penalties and bonuses.
@@ -77,8 +75,6 @@ pub(crate) struct Scored {
     pub penalty: f64,
     /// Number of lines with |S/N| >= 4.
     pub n_sig: usize,
-    /// Number of broad lines with S/N >= 4.
-    pub n_broad: usize,
     /// Strongest |S/N|.
     pub max_snr: f64,
     /// Forest depth (1 - blue/red flux ratio) when measured.
@@ -163,7 +159,11 @@ pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<(f64, f64, f64)> {
             .filter(|&&k| (native.cont_narrow[k] - native.flux[k]) * native.ivar[k].sqrt() > 2.5)
             .count() as f64
             / good.len() as f64;
-        let sig = good.iter().map(|&k| 1.0 / native.ivar[k].sqrt()).sum::<f64>() / good.len() as f64;
+        let sig = good
+            .iter()
+            .map(|&k| 1.0 / native.ivar[k].sqrt())
+            .sum::<f64>()
+            / good.len() as f64;
         Some((v[m], good.len(), dips, sig))
     };
     let (b, nb, dips_b, _) = stats(1050.0, 1170.0)?;
@@ -329,12 +329,10 @@ pub(crate) fn score(
         s: fit.s,
         s_err: fit.s_err,
         score,
-        evidence,
         lines,
         notes,
         penalty,
         n_sig,
-        n_broad,
         max_snr,
         forest,
     }
@@ -351,7 +349,7 @@ pub(crate) fn ratio_penalty(n: &LineMeasure, d: &LineMeasure, range: (f64, f64))
         1.0
     };
     let (fnum, fden) = (sign * n.flux, sign * d.flux);
-    if !(d.flux_err > 0.0) || !(n.flux_err > 0.0) {
+    if d.flux_err.is_nan() || n.flux_err.is_nan() || d.flux_err <= 0.0 || n.flux_err <= 0.0 {
         return None;
     }
     let fden_eff = fden.max(d.flux_err);

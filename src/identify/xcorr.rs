@@ -17,6 +17,10 @@
 //!   template transforms are made once per [`Correlator`]. The peak height
 //!   over the antisymmetric noise (their r value) is a significance.
 
+// Index loops over several parallel slices read more clearly than zipped
+// iterators in this numerical code.
+#![allow(clippy::needless_range_loop)]
+
 use super::grid::LogGrid;
 use crate::lines::{Catalogue, LineKind, ObjectClass, Width};
 use crate::physics::constants::C_KM_S;
@@ -96,7 +100,7 @@ pub(crate) fn build_combs(cat: &Catalogue) -> Vec<Comb> {
     let mut qso = Vec::new();
     let mut star = Vec::new();
     for (i, l) in cat.lines.iter().enumerate() {
-        if !(l.wavelength > 0.0) {
+        if l.wavelength.is_nan() || l.wavelength <= 0.0 {
             continue;
         }
         let ln_rest = l.wavelength.ln();
@@ -323,7 +327,7 @@ impl Correlator {
                 // data can take the rest without wrap-around.
                 let max_len = size / 2;
                 for l in &cat.lines {
-                    if !(l.wavelength > TD_REST_MIN) {
+                    if l.wavelength.is_nan() || l.wavelength <= TD_REST_MIN {
                         continue;
                     }
                     let emis = matches!(l.kind, LineKind::Emission | LineKind::Both);
