@@ -128,9 +128,6 @@ pub enum BaryError {
         /// What is wrong with it.
         message: String,
     },
-    /// The site name is not among the configured sites.
-    #[error("barycentric correction not computed: site '{0}' is not among the configured sites")]
-    UnknownSite(String),
 }
 
 impl BaryError {
