@@ -262,6 +262,21 @@ pub fn apply(z_obs: f64, corr_kms: f64) -> f64 {
     (1.0 + z_obs) * (1.0 + corr_kms * 1000.0 / C_M_S) - 1.0
 }
 
+/// Barycentric redshift and velocity (km/s, relativistic, as
+/// [`crate::physics::doppler::velocity_from_z`]) for an observed redshift,
+/// or `None` for both when the correction is unknown. This is what every
+/// output (scan, decision log, export, review screen) reports beside the
+/// observed values.
+pub fn corrected(z_obs: f64, corr_kms: Option<f64>) -> (Option<f64>, Option<f64>) {
+    match corr_kms {
+        Some(c) if c.is_finite() && z_obs.is_finite() => {
+            let zb = apply(z_obs, c);
+            (Some(zb), Some(crate::physics::doppler::velocity_from_z(zb)))
+        }
+        _ => (None, None),
+    }
+}
+
 /// The correction with its details; every missing input is reported at once.
 pub fn compute(meta: &Metadata, ov: &BaryOverrides) -> Result<Correction, BaryError> {
     let mut notes = Vec::new();
@@ -509,14 +524,17 @@ fn observation_time(
         let d = meta.date_obs.as_deref().unwrap_or_default();
         let c = time::parse_date(d).map_err(|e| time_err("DATE-OBS", e))?;
         for key in ["TIME-OBS", "UT", "UTSTART", "UT-START"] {
-            if let Some(v) = header(meta, key) {
-                let secs = time::parse_time_of_day(v, v).map_err(|e| time_err(key, e))?;
-                start = Some(Instant {
-                    mjd_day: c.mjd_day,
-                    seconds: secs,
-                    scale,
-                });
-                break;
+            let Some(v) = header(meta, key) else { continue };
+            match time::parse_time_of_day(v, v) {
+                Ok(secs) => {
+                    start = Some(Instant {
+                        mjd_day: c.mjd_day,
+                        seconds: secs,
+                        scale,
+                    });
+                    break;
+                }
+                Err(_) => notes.push(format!("{key} = {v} is not hh:mm:ss; not used")),
             }
         }
         if start.is_none() {
@@ -861,6 +879,16 @@ mod tests {
             assert!((c * z_b - rule).abs() < 1e-8, "{} vs {rule}", c * z_b);
         }
         assert_eq!(apply(0.5, 0.0), 0.5);
+    }
+
+    #[test]
+    fn corrected_values_are_absent_without_a_correction_and_relativistic_with_one() {
+        assert_eq!(corrected(0.1, None), (None, None));
+        let (zb, vb) = corrected(0.0, Some(10.0));
+        // z = v/c for the correction alone; the relativistic velocity of that z is
+        // ~10 km/s less (10^2/2c) ~ 0.17 m/s.
+        assert!((zb.unwrap() - 10.0 / 299_792.458).abs() < 1e-15);
+        assert!((vb.unwrap() - 10.0).abs() < 1e-3);
     }
 
     fn meta_with(date: &str, exptime: Option<f64>) -> Metadata {

@@ -1131,7 +1131,12 @@ fn fill_metadata(ctx: &Ctx, h: &Hdu, primary: &Hdu, meta: &mut Metadata) {
     if meta.flux_unit.is_none() {
         meta.flux_unit = text("BUNIT").map(|s| crate::text::clean(&s));
     }
-    for k in ["INSTRUME", "TELESCOP", "OBSERVAT", "AIRMASS", "OBSERVER"] {
+    // The time keywords after OBSERVER are read by the barycentric correction
+    // (physics::bary: mid-exposure and time-of-day rules).
+    for k in [
+        "INSTRUME", "TELESCOP", "OBSERVAT", "AIRMASS", "OBSERVER", "DATE-AVG", "MJD-AVG",
+        "DATE-BEG", "MJD-BEG", "DATE-END", "MJD-END", "TIME-OBS", "UT", "UTSTART",
+    ] {
         if let Some(v) = get(k) {
             meta.header.push((k.to_string(), show(v)));
         }
