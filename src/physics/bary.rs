@@ -206,8 +206,9 @@ pub enum TimeRef {
 }
 
 /// What the user supplies to fill in (or replace) the file's metadata, from
-/// queue-file columns, command-line options or the configuration. Every field
-/// set here wins over the file.
+/// queue-file columns, command-line options or the configuration. Whether a
+/// supplied value wins over the file's is [`BaryOverrides::replace`]; the
+/// exposure time follows the same rule.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct BaryOverrides {
     /// Observation time, and whether it is the start or the middle.
@@ -224,6 +225,10 @@ pub struct BaryOverrides {
     pub site: Option<Site>,
     /// The user's configured named sites.
     pub sites: Vec<NamedSite>,
+    /// When true, the supplied time / coordinates / site replace the file's;
+    /// when false (the default) they are used only where the file has no
+    /// usable value of its own.
+    pub replace: bool,
 }
 
 /// The correction and how it was obtained.
@@ -457,13 +462,12 @@ fn observation_time(
     ov: &BaryOverrides,
     notes: &mut Vec<String>,
 ) -> Result<Instant, BaryError> {
-    let scale = match &meta.time_scale {
-        Some(s) if !s.trim().is_empty() => {
-            TimeScale::parse(s).map_err(|e| time_err("TIMESYS", e))?
-        }
-        _ => TimeScale::Utc,
+    let exposure = if ov.replace {
+        ov.exposure_s.or(meta.exposure_s)
+    } else {
+        meta.exposure_s.or(ov.exposure_s)
     };
-    let exposure = match ov.exposure_s.or(meta.exposure_s) {
+    let exposure = match exposure {
         Some(e) if !e.is_finite() || e < 0.0 => {
             return Err(invalid(
                 "EXPTIME",
@@ -472,16 +476,55 @@ fn observation_time(
         }
         e => e,
     };
-    if let Some((at, r)) = ov.time {
-        return Ok(match (r, exposure) {
-            (TimeRef::Mid, _) => at,
-            (TimeRef::Start, Some(e)) => at.to_scale(TimeScale::Tai).plus_seconds(e / 2.0),
-            (TimeRef::Start, None) => {
-                notes.push("no exposure time: the supplied start time was used".into());
-                at
-            }
-        });
+    let mut user_notes = Vec::new();
+    let user = ov.time.map(|(at, r)| match (r, exposure) {
+        (TimeRef::Mid, _) => at,
+        (TimeRef::Start, Some(e)) => at.to_scale(TimeScale::Tai).plus_seconds(e / 2.0),
+        (TimeRef::Start, None) => {
+            user_notes.push("no exposure time: the supplied start time was used".into());
+            at
+        }
+    });
+    pick(ov.replace, user, user_notes, notes, |n| {
+        file_time(meta, exposure, n)
+    })
+}
+
+/// Choose between a user-supplied value and the file's (see
+/// [`BaryOverrides::replace`]); notes of the one not chosen are dropped.
+fn pick<T>(
+    replace: bool,
+    user: Option<T>,
+    user_notes: Vec<String>,
+    notes: &mut Vec<String>,
+    file: impl FnOnce(&mut Vec<String>) -> Result<T, BaryError>,
+) -> Result<T, BaryError> {
+    let Some(u) = user else {
+        return file(notes);
+    };
+    if !replace {
+        let mut file_notes = Vec::new();
+        if let Ok(f) = file(&mut file_notes) {
+            notes.extend(file_notes);
+            return Ok(f);
+        }
     }
+    notes.extend(user_notes);
+    Ok(u)
+}
+
+/// The file's own mid-exposure time (see [`observation_time`]'s rules).
+fn file_time(
+    meta: &Metadata,
+    exposure: Option<f64>,
+    notes: &mut Vec<String>,
+) -> Result<Instant, BaryError> {
+    let scale = match &meta.time_scale {
+        Some(s) if !s.trim().is_empty() => {
+            TimeScale::parse(s).map_err(|e| time_err("TIMESYS", e))?
+        }
+        _ => TimeScale::Utc,
+    };
     if let Some(v) = header(meta, "DATE-AVG") {
         let c = time::parse_date(v).map_err(|e| time_err("DATE-AVG", e))?;
         if c.has_time {
@@ -576,15 +619,24 @@ fn target_direction(
     ov: &BaryOverrides,
     notes: &mut Vec<String>,
 ) -> Result<[f64; 3], BaryError> {
-    let from_user = ov.ra_deg.is_some() && ov.dec_deg.is_some();
-    let (ra, dec, equinox) = if from_user {
-        (ov.ra_deg, ov.dec_deg, ov.equinox)
-    } else {
-        (meta.ra_deg, meta.dec_deg, meta.equinox)
+    let user = match (ov.ra_deg, ov.dec_deg) {
+        (Some(ra), Some(dec)) => Some(direction(ra, dec, ov.equinox, &mut Vec::new())?),
+        _ => None,
     };
-    let (Some(ra), Some(dec)) = (ra, dec) else {
-        return Err(BaryError::Missing(vec![Missing::Coordinates]));
-    };
+    pick(ov.replace, user, Vec::new(), notes, |n| {
+        match (meta.ra_deg, meta.dec_deg) {
+            (Some(ra), Some(dec)) => direction(ra, dec, meta.equinox, n),
+            _ => Err(BaryError::Missing(vec![Missing::Coordinates])),
+        }
+    })
+}
+
+fn direction(
+    ra: f64,
+    dec: f64,
+    equinox: Option<f64>,
+    notes: &mut Vec<String>,
+) -> Result<[f64; 3], BaryError> {
     if !ra.is_finite() || !(-360.0..=720.0).contains(&ra) {
         return Err(invalid(
             "RA",
@@ -654,29 +706,53 @@ fn site_position(
     ov: &BaryOverrides,
     notes: &mut Vec<String>,
 ) -> Result<[f64; 3], BaryError> {
-    let mut candidates: Vec<(&Site, &str)> = Vec::new();
-    if let Some(s) = &ov.site {
-        candidates.push((s, "site option"));
-    }
-    candidates.push((&meta.site, "OBSGEO-X/Y/Z or site longitude/latitude"));
-    for (site, keyword) in candidates {
-        if let Some(xyz) = site_itrs(site, keyword)? {
-            if site.geocentric_m.is_none() && site.height_m.is_none() {
-                notes.push("site height unknown: 0 m above the ellipsoid assumed".into());
-            }
-            return Ok(xyz);
+    let mut user_notes = Vec::new();
+    let user = match &ov.site {
+        Some(site) => Some(resolve_site(
+            site,
+            "site option",
+            &ov.sites,
+            &mut user_notes,
+        )?),
+        None => None,
+    };
+    pick(ov.replace, user, user_notes, notes, |n| {
+        resolve_site(
+            &meta.site,
+            "OBSGEO-X/Y/Z or site longitude/latitude",
+            &ov.sites,
+            n,
+        )
+    })
+}
+
+fn resolve_site(
+    site: &Site,
+    keyword: &str,
+    sites: &[NamedSite],
+    notes: &mut Vec<String>,
+) -> Result<[f64; 3], BaryError> {
+    if let Some(xyz) = site_itrs(site, keyword)? {
+        if site.geocentric_m.is_none() && site.height_m.is_none() {
+            notes.push("site height unknown: 0 m above the ellipsoid assumed".into());
         }
-        if let Some(name) = site.name.as_deref().filter(|n| !n.trim().is_empty()) {
-            return match find_site(&ov.sites, name) {
-                Some(found) => Ok(site_itrs(&found, "configured site")?
-                    .ok_or_else(|| invalid("configured site", "no coordinates"))?),
-                None => Err(BaryError::Missing(vec![Missing::UnconfiguredSite(
-                    name.trim().to_string(),
-                )])),
-            };
-        }
+        return Ok(xyz);
     }
-    Err(BaryError::Missing(vec![Missing::Site]))
+    match site
+        .name
+        .as_deref()
+        .map(str::trim)
+        .filter(|n| !n.is_empty())
+    {
+        Some(name) => match find_site(sites, name) {
+            Some(found) => site_itrs(&found, "configured site")?
+                .ok_or_else(|| invalid("configured site", "no coordinates")),
+            None => Err(BaryError::Missing(vec![Missing::UnconfiguredSite(
+                name.to_string(),
+            )])),
+        },
+        None => Err(BaryError::Missing(vec![Missing::Site])),
+    }
 }
 
 /// Parse a user-supplied site `LON,LAT[,HEIGHT]` (east longitude and
@@ -1062,5 +1138,31 @@ mod tests {
         assert_eq!((t.mjd_day, t.seconds), (60_512, 21_600.0));
         assert!(parse_time("2024-07-01", TimeScale::Utc).is_err());
         assert!(parse_time("2024-07-01T03:00:00", TimeScale::Utc).is_ok());
+    }
+
+    #[test]
+    fn supplied_values_fill_gaps_by_default_and_replace_the_file_only_when_asked() {
+        let file = meta_with("2024-03-01T02:00:00", Some(0.0));
+        let other = Instant::from_civil(parse_date("2024-09-01T14:00:00").unwrap(), TimeScale::Utc);
+        let mut ov = BaryOverrides {
+            time: Some((other, TimeRef::Mid)),
+            ra_deg: Some(200.0),
+            dec_deg: Some(10.0),
+            site: Some(parse_lonlat("100,-20,0").unwrap()),
+            ..BaryOverrides::default()
+        };
+        let own = correction_kms(&file, &BaryOverrides::default()).unwrap();
+        assert_eq!(correction_kms(&file, &ov).unwrap(), own);
+        ov.replace = true;
+        let replaced = correction_kms(&file, &ov).unwrap();
+        assert_eq!(replaced, correction_kms(&Metadata::default(), &ov).unwrap());
+        assert!((replaced - own).abs() > 1.0);
+        // An unusable header value gives way to the supplied one even when filling.
+        ov.replace = false;
+        let mut broken = file.clone();
+        broken.date_obs = Some("2024-02-30T00:00:00".into());
+        broken.ra_deg = None;
+        broken.site = Site::default();
+        assert_eq!(correction_kms(&broken, &ov).unwrap(), replaced);
     }
 }
