@@ -755,6 +755,111 @@ fn resolve_site(
     }
 }
 
+/// Column names a queue file (or any table of targets) may use to supply what
+/// the correction needs, in the order they are documented.
+pub const COLUMNS: [&str; 14] = [
+    "ra",
+    "dec",
+    "equinox",
+    "obs_time",
+    "timesys",
+    "time_ref",
+    "exptime",
+    "site",
+    "site_lon",
+    "site_lat",
+    "site_height",
+    "obsgeo_x",
+    "obsgeo_y",
+    "obsgeo_z",
+];
+
+/// Overrides from one row of a table: `get(column)` returns the cell (None or
+/// empty when absent). Columns ([`COLUMNS`]): `ra`, `dec` (degrees, or
+/// `hh:mm:ss` / `dd:mm:ss`), `equinox` (years), `obs_time` (ISO 8601 or
+/// `MJD…`), `timesys` (default UTC), `time_ref` (`start`, the default, or
+/// `mid`), `exptime` (s), `site` (a configured name), `site_lon`, `site_lat`,
+/// `site_height` (degrees, metres), `obsgeo_x/y/z` (metres). A row's values
+/// are specific to its target, so they replace the file's
+/// ([`BaryOverrides::replace`] is true). Errors name the column.
+pub fn overrides_from_columns<'a>(
+    get: impl Fn(&str) -> Option<&'a str>,
+) -> Result<BaryOverrides, BaryError> {
+    let cell = |k: &str| get(k).map(str::trim).filter(|v| !v.is_empty());
+    let num = |k: &str| -> Result<Option<f64>, BaryError> {
+        cell(k)
+            .map(|v| {
+                v.parse::<f64>()
+                    .ok()
+                    .filter(|x| x.is_finite())
+                    .ok_or_else(|| invalid(k, format!("'{v}' is not a number")))
+            })
+            .transpose()
+    };
+    let mut ov = BaryOverrides {
+        replace: true,
+        ..BaryOverrides::default()
+    };
+    match (cell("ra"), cell("dec")) {
+        (Some(ra), Some(dec)) => {
+            let (r, d) = parse_radec(&format!("{ra},{dec}")).map_err(|m| invalid("ra/dec", m))?;
+            ov.ra_deg = Some(r);
+            ov.dec_deg = Some(d);
+            ov.equinox = num("equinox")?;
+        }
+        (None, None) => {}
+        _ => return Err(invalid("ra/dec", "give both ra and dec, or neither")),
+    }
+    if let Some(t) = cell("obs_time") {
+        let scale = match cell("timesys") {
+            Some(s) => TimeScale::parse(s).map_err(|e| invalid("timesys", e.to_string()))?,
+            None => TimeScale::Utc,
+        };
+        let at = parse_time(t, scale).map_err(|m| invalid("obs_time", m))?;
+        let r = match cell("time_ref").map(str::to_ascii_lowercase).as_deref() {
+            None | Some("start") => TimeRef::Start,
+            Some("mid") | Some("middle") => TimeRef::Mid,
+            Some(other) => {
+                return Err(invalid(
+                    "time_ref",
+                    format!("'{other}' is not start or mid"),
+                ));
+            }
+        };
+        ov.time = Some((at, r));
+    }
+    if let Some(e) = num("exptime")? {
+        if e < 0.0 {
+            return Err(invalid("exptime", format!("{e} is negative")));
+        }
+        ov.exposure_s = Some(e);
+    }
+    let (x, y, z) = (num("obsgeo_x")?, num("obsgeo_y")?, num("obsgeo_z")?);
+    let (lon, lat, h) = (num("site_lon")?, num("site_lat")?, num("site_height")?);
+    ov.site = if let (Some(x), Some(y), Some(z)) = (x, y, z) {
+        Some(parse_xyz(&format!("{x},{y},{z}")).map_err(|m| invalid("obsgeo_x/y/z", m))?)
+    } else if let (Some(lon), Some(lat)) = (lon, lat) {
+        let text = format!("{lon},{lat},{}", h.unwrap_or(0.0));
+        Some(parse_lonlat(&text).map_err(|m| invalid("site_lon/site_lat", m))?)
+    } else if x.is_some() || y.is_some() || z.is_some() {
+        return Err(invalid(
+            "obsgeo_x/y/z",
+            "give all three of obsgeo_x, obsgeo_y, obsgeo_z",
+        ));
+    } else if lon.is_some() || lat.is_some() {
+        return Err(invalid(
+            "site_lon/site_lat",
+            "give both site_lon and site_lat",
+        ));
+    } else {
+        cell("site").map(|n| Site {
+            name: Some(crate::text::clean(n)),
+            ..Site::default()
+        })
+    };
+    Ok(ov)
+}
+
 /// Parse a user-supplied site `LON,LAT[,HEIGHT]` (east longitude and
 /// geodetic latitude in degrees, height in metres above WGS84, default 0).
 pub fn parse_lonlat(text: &str) -> Result<Site, String> {
@@ -1164,5 +1269,50 @@ mod tests {
         broken.ra_deg = None;
         broken.site = Site::default();
         assert_eq!(correction_kms(&broken, &ov).unwrap(), replaced);
+    }
+
+    #[test]
+    fn table_columns_become_overrides_and_bad_cells_name_their_column() {
+        let row = |pairs: &'static [(&'static str, &'static str)]| {
+            move |k: &str| pairs.iter().find(|(c, _)| *c == k).map(|(_, v)| *v)
+        };
+        let ov = overrides_from_columns(row(&[
+            ("ra", "10:00:00"),
+            ("dec", "-05:30:00"),
+            ("obs_time", "2025-01-02T03:04:05"),
+            ("timesys", "TT"),
+            ("time_ref", "mid"),
+            ("site_lon", "12.5"),
+            ("site_lat", "-30"),
+        ]))
+        .unwrap();
+        assert!(ov.replace);
+        assert_eq!((ov.ra_deg, ov.dec_deg), (Some(150.0), Some(-5.5)));
+        let (at, r) = ov.time.unwrap();
+        assert_eq!((at.scale, r), (TimeScale::Tt, TimeRef::Mid));
+        assert_eq!(ov.site.as_ref().unwrap().height_m, Some(0.0));
+        let named = overrides_from_columns(row(&[("site", "Kestrel Hill")])).unwrap();
+        assert_eq!(named.site.unwrap().name.as_deref(), Some("Kestrel Hill"));
+        assert!(overrides_from_columns(row(&[])).unwrap().site.is_none());
+        for (bad, col) in [
+            (&[("ra", "10")][..], "ra/dec"),
+            (&[("obs_time", "yesterday")][..], "obs_time"),
+            (&[("exptime", "long")][..], "exptime"),
+            (&[("obsgeo_x", "1"), ("obsgeo_y", "2")][..], "obsgeo_x/y/z"),
+            (
+                &[("obs_time", "2025-01-02T03:04:05"), ("time_ref", "end")][..],
+                "time_ref",
+            ),
+        ] {
+            let owned: Vec<(String, String)> = bad
+                .iter()
+                .map(|(a, b)| (a.to_string(), b.to_string()))
+                .collect();
+            let get = |k: &str| owned.iter().find(|(c, _)| c == k).map(|(_, v)| v.as_str());
+            match overrides_from_columns(get) {
+                Err(BaryError::Invalid { keyword, .. }) => assert_eq!(keyword, col),
+                other => panic!("{bad:?}: {other:?}"),
+            }
+        }
     }
 }
