@@ -42,7 +42,12 @@ pub struct BaryOpts {
           allow_hyphen_values = true, help_heading = "Barycentric correction")]
     pub radec: Option<(f64, f64)>,
     /// Equinox of --radec in years (default: ICRS / J2000).
-    #[arg(long, value_name = "YEAR", requires = "radec", help_heading = "Barycentric correction")]
+    #[arg(
+        long,
+        value_name = "YEAR",
+        requires = "radec",
+        help_heading = "Barycentric correction"
+    )]
     pub equinox: Option<f64>,
     /// Let the options above replace what the files say (default: fill gaps only).
     #[arg(long, help_heading = "Barycentric correction")]

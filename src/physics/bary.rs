@@ -545,6 +545,16 @@ fn file_time(
             date_only = true;
         }
     }
+    if let (Some(a), Some(m)) = (start, meta.mjd_obs)
+        && let Ok(b) = Instant::from_mjd(m, scale)
+    {
+        let ds = (b.mjd_day - a.mjd_day) as f64 * time::DAY_S + (b.seconds - a.seconds);
+        if ds.abs() > 1.0 {
+            notes.push(format!(
+                "DATE-OBS and MJD-OBS differ by {ds:.0} s; DATE-OBS was used"
+            ));
+        }
+    }
     if start.is_none()
         && let Some(m) = meta.mjd_obs
     {
@@ -1108,6 +1118,16 @@ mod tests {
         )
         .unwrap();
         assert!(c.notes.iter().any(|n| n.contains("EXPTIME")));
+        // A disagreeing MJD-OBS is noted, DATE-OBS wins.
+        let mut m = meta_with("2024-03-01T02:00:00", Some(0.0));
+        m.mjd_obs = Some(60_370.5);
+        let c = compute(&m, &BaryOverrides::default()).unwrap();
+        assert!(
+            c.notes.iter().any(|n| n.contains("MJD-OBS")),
+            "{:?}",
+            c.notes
+        );
+        assert_eq!(c.mid_utc.seconds, 7200.0);
     }
 
     #[test]
