@@ -17,7 +17,10 @@ fn queue_file_columns_supply_coordinates_time_and_site_per_target() {
     .unwrap();
     let queue = Queue::from_queue_file(&q).unwrap();
     let items = queue.items();
-    let ov = items[0].bary.clone().expect("row A has barycentric columns");
+    let ov = items[0]
+        .bary
+        .clone()
+        .expect("row A has barycentric columns");
     assert!(ov.replace);
     // The row alone is enough for a correction, for a file that says nothing.
     let v = bary::correction_kms(&Metadata::default(), &ov).unwrap();

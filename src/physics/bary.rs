@@ -284,9 +284,21 @@ pub fn corrected(z_obs: f64, corr_kms: Option<f64>) -> (Option<f64>, Option<f64>
 
 /// The correction with its details; every missing input is reported at once.
 pub fn compute(meta: &Metadata, ov: &BaryOverrides) -> Result<Correction, BaryError> {
+    compute_layered(meta, &[ov])
+}
+
+/// [`compute`] with several layers of user-supplied values, most specific
+/// first (e.g. a queue-file row, then command-line options). For each input
+/// (time, coordinates, site, exposure): the first layer that has it and says
+/// `replace` wins; else the file's own value; else the first layer that has
+/// it. Named sites of all layers are searched.
+pub fn compute_layered(
+    meta: &Metadata,
+    layers: &[&BaryOverrides],
+) -> Result<Correction, BaryError> {
     let mut notes = Vec::new();
     let mut missing = Vec::new();
-    let time = match observation_time(meta, ov, &mut notes) {
+    let time = match observation_time(meta, layers, &mut notes) {
         Ok(t) => Some(t),
         Err(BaryError::Missing(m)) => {
             missing.extend(m);
@@ -294,7 +306,7 @@ pub fn compute(meta: &Metadata, ov: &BaryOverrides) -> Result<Correction, BaryEr
         }
         Err(e) => return Err(e),
     };
-    let dir = match target_direction(meta, ov, &mut notes) {
+    let dir = match target_direction(meta, layers, &mut notes) {
         Ok(d) => Some(d),
         Err(BaryError::Missing(m)) => {
             missing.extend(m);
@@ -302,7 +314,7 @@ pub fn compute(meta: &Metadata, ov: &BaryOverrides) -> Result<Correction, BaryEr
         }
         Err(e) => return Err(e),
     };
-    let site = match site_position(meta, ov, &mut notes) {
+    let site = match site_position(meta, layers, &mut notes) {
         Ok(s) => Some(s),
         Err(BaryError::Missing(m)) => {
             missing.extend(m);
@@ -459,14 +471,15 @@ fn parse_mjd(keyword: &str, text: &str, scale: TimeScale) -> Result<Instant, Bar
 ///    itself, with a note.
 fn observation_time(
     meta: &Metadata,
-    ov: &BaryOverrides,
+    layers: &[&BaryOverrides],
     notes: &mut Vec<String>,
 ) -> Result<Instant, BaryError> {
-    let exposure = if ov.replace {
-        ov.exposure_s.or(meta.exposure_s)
-    } else {
-        meta.exposure_s.or(ov.exposure_s)
-    };
+    let forced = layers.iter().find(|l| l.replace && l.exposure_s.is_some());
+    let filling = layers.iter().find(|l| l.exposure_s.is_some());
+    let exposure = forced
+        .and_then(|l| l.exposure_s)
+        .or(meta.exposure_s)
+        .or(filling.and_then(|l| l.exposure_s));
     let exposure = match exposure {
         Some(e) if !e.is_finite() || e < 0.0 => {
             return Err(invalid(
@@ -476,41 +489,58 @@ fn observation_time(
         }
         e => e,
     };
-    let mut user_notes = Vec::new();
-    let user = ov.time.map(|(at, r)| match (r, exposure) {
-        (TimeRef::Mid, _) => at,
-        (TimeRef::Start, Some(e)) => at.to_scale(TimeScale::Tai).plus_seconds(e / 2.0),
-        (TimeRef::Start, None) => {
-            user_notes.push("no exposure time: the supplied start time was used".into());
-            at
-        }
-    });
-    pick(ov.replace, user, user_notes, notes, |n| {
-        file_time(meta, exposure, n)
-    })
+    let user = layers
+        .iter()
+        .map(|l| {
+            let mut n = Vec::new();
+            let v = l.time.map(|(at, r)| match (r, exposure) {
+                (TimeRef::Mid, _) => at,
+                (TimeRef::Start, Some(e)) => at.to_scale(TimeScale::Tai).plus_seconds(e / 2.0),
+                (TimeRef::Start, None) => {
+                    n.push("no exposure time: the supplied start time was used".into());
+                    at
+                }
+            });
+            (l.replace, v, n)
+        })
+        .collect();
+    pick(user, notes, |n| file_time(meta, exposure, n))
 }
 
-/// Choose between a user-supplied value and the file's (see
-/// [`BaryOverrides::replace`]); notes of the one not chosen are dropped.
+/// Choose between user-supplied values (one per layer: replace flag, value,
+/// notes) and the file's (see [`compute_layered`]); notes of the values not
+/// chosen are dropped.
 fn pick<T>(
-    replace: bool,
-    user: Option<T>,
-    user_notes: Vec<String>,
+    user: Vec<(bool, Option<T>, Vec<String>)>,
     notes: &mut Vec<String>,
     file: impl FnOnce(&mut Vec<String>) -> Result<T, BaryError>,
 ) -> Result<T, BaryError> {
-    let Some(u) = user else {
-        return file(notes);
-    };
-    if !replace {
-        let mut file_notes = Vec::new();
-        if let Ok(f) = file(&mut file_notes) {
-            notes.extend(file_notes);
-            return Ok(f);
+    let mut fill = None;
+    for (replace, v, n) in user {
+        let Some(v) = v else { continue };
+        if replace {
+            notes.extend(n);
+            return Ok(v);
+        }
+        if fill.is_none() {
+            fill = Some((v, n));
         }
     }
-    notes.extend(user_notes);
-    Ok(u)
+    let mut file_notes = Vec::new();
+    match (file(&mut file_notes), fill) {
+        (Ok(f), _) => {
+            notes.extend(file_notes);
+            Ok(f)
+        }
+        (Err(_), Some((v, n))) => {
+            notes.extend(n);
+            Ok(v)
+        }
+        (Err(e), None) => {
+            notes.extend(file_notes);
+            Err(e)
+        }
+    }
 }
 
 /// The file's own mid-exposure time (see [`observation_time`]'s rules).
@@ -626,18 +656,20 @@ fn file_time(
 
 fn target_direction(
     meta: &Metadata,
-    ov: &BaryOverrides,
+    layers: &[&BaryOverrides],
     notes: &mut Vec<String>,
 ) -> Result<[f64; 3], BaryError> {
-    let user = match (ov.ra_deg, ov.dec_deg) {
-        (Some(ra), Some(dec)) => Some(direction(ra, dec, ov.equinox, &mut Vec::new())?),
-        _ => None,
-    };
-    pick(ov.replace, user, Vec::new(), notes, |n| {
-        match (meta.ra_deg, meta.dec_deg) {
-            (Some(ra), Some(dec)) => direction(ra, dec, meta.equinox, n),
-            _ => Err(BaryError::Missing(vec![Missing::Coordinates])),
-        }
+    let mut user = Vec::new();
+    for l in layers {
+        let v = match (l.ra_deg, l.dec_deg) {
+            (Some(ra), Some(dec)) => Some(direction(ra, dec, l.equinox, &mut Vec::new())?),
+            _ => None,
+        };
+        user.push((l.replace, v, Vec::new()));
+    }
+    pick(user, notes, |n| match (meta.ra_deg, meta.dec_deg) {
+        (Some(ra), Some(dec)) => direction(ra, dec, meta.equinox, n),
+        _ => Err(BaryError::Missing(vec![Missing::Coordinates])),
     })
 }
 
@@ -713,24 +745,27 @@ pub fn site_itrs(site: &Site, keyword: &str) -> Result<Option<[f64; 3]>, BaryErr
 
 fn site_position(
     meta: &Metadata,
-    ov: &BaryOverrides,
+    layers: &[&BaryOverrides],
     notes: &mut Vec<String>,
 ) -> Result<[f64; 3], BaryError> {
-    let mut user_notes = Vec::new();
-    let user = match &ov.site {
-        Some(site) => Some(resolve_site(
-            site,
-            "site option",
-            &ov.sites,
-            &mut user_notes,
-        )?),
-        None => None,
-    };
-    pick(ov.replace, user, user_notes, notes, |n| {
+    let sites: Vec<NamedSite> = layers
+        .iter()
+        .flat_map(|l| l.sites.iter().cloned())
+        .collect();
+    let mut user = Vec::new();
+    for l in layers {
+        let mut n = Vec::new();
+        let v = match &l.site {
+            Some(site) => Some(resolve_site(site, "site option", &sites, &mut n)?),
+            None => None,
+        };
+        user.push((l.replace, v, n));
+    }
+    pick(user, notes, |n| {
         resolve_site(
             &meta.site,
             "OBSGEO-X/Y/Z or site longitude/latitude",
-            &ov.sites,
+            &sites,
             n,
         )
     })
@@ -1334,5 +1369,32 @@ mod tests {
                 other => panic!("{bad:?}: {other:?}"),
             }
         }
+    }
+
+    #[test]
+    fn layers_apply_replace_then_file_then_fill_in_order() {
+        let file = meta_with("2024-03-01T02:00:00", Some(0.0));
+        let own = correction_kms(&file, &BaryOverrides::default()).unwrap();
+        let t = |s: &str| Instant::from_civil(parse_date(s).unwrap(), TimeScale::Utc);
+        let row = BaryOverrides {
+            time: Some((t("2024-09-01T14:00:00"), TimeRef::Mid)),
+            replace: true,
+            ..BaryOverrides::default()
+        };
+        let global = BaryOverrides {
+            time: Some((t("2024-06-01T00:00:00"), TimeRef::Mid)),
+            ..BaryOverrides::default()
+        };
+        let both = compute_layered(&file, &[&row, &global]).unwrap();
+        let row_only = compute_layered(&file, &[&row]).unwrap();
+        assert_eq!(both.kms, row_only.kms);
+        assert!((both.kms - own).abs() > 1.0);
+        // A filling layer does not displace the file's time.
+        assert_eq!(compute_layered(&file, &[&global]).unwrap().kms, own);
+        // ... but supplies it when the file has none.
+        let mut bare = file.clone();
+        bare.date_obs = None;
+        let filled = compute_layered(&bare, &[&BaryOverrides::default(), &global]).unwrap();
+        assert_eq!(filled.mid_utc, t("2024-06-01T00:00:00"));
     }
 }

@@ -288,7 +288,10 @@ impl Queue {
                 item.note = Some(n.to_string());
             }
             let bary_cell = |k: &str| col(k).and_then(|c| rec.get(c)).filter(|v| !v.is_empty());
-            if crate::physics::bary::COLUMNS.iter().any(|k| bary_cell(k).is_some()) {
+            if crate::physics::bary::COLUMNS
+                .iter()
+                .any(|k| bary_cell(k).is_some())
+            {
                 let ov = crate::physics::bary::overrides_from_columns(bary_cell).map_err(|e| {
                     QueueError::Line {
                         path: path.to_path_buf(),
