@@ -4,6 +4,7 @@
 //! Exit codes (a documented contract): 0 success; 2 usage error (clap's);
 //! 3 some inputs were rejected (the rest processed); 1 any other failure.
 
+pub mod bary_opts;
 pub mod decide;
 pub mod demo;
 pub mod export;

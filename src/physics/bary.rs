@@ -128,9 +128,6 @@ pub enum BaryError {
         /// What is wrong with it.
         message: String,
     },
-    /// The site name is not among the configured sites.
-    #[error("barycentric correction not computed: site '{0}' is not among the configured sites")]
-    UnknownSite(String),
 }
 
 impl BaryError {
@@ -209,8 +206,9 @@ pub enum TimeRef {
 }
 
 /// What the user supplies to fill in (or replace) the file's metadata, from
-/// queue-file columns, command-line options or the configuration. Every field
-/// set here wins over the file.
+/// queue-file columns, command-line options or the configuration. Whether a
+/// supplied value wins over the file's is [`BaryOverrides::replace`]; the
+/// exposure time follows the same rule.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct BaryOverrides {
     /// Observation time, and whether it is the start or the middle.
@@ -227,6 +225,10 @@ pub struct BaryOverrides {
     pub site: Option<Site>,
     /// The user's configured named sites.
     pub sites: Vec<NamedSite>,
+    /// When true, the supplied time / coordinates / site replace the file's;
+    /// when false (the default) they are used only where the file has no
+    /// usable value of its own.
+    pub replace: bool,
 }
 
 /// The correction and how it was obtained.
@@ -265,11 +267,38 @@ pub fn apply(z_obs: f64, corr_kms: f64) -> f64 {
     (1.0 + z_obs) * (1.0 + corr_kms * 1000.0 / C_M_S) - 1.0
 }
 
+/// Barycentric redshift and velocity (km/s, relativistic, as
+/// [`crate::physics::doppler::velocity_from_z`]) for an observed redshift,
+/// or `None` for both when the correction is unknown. This is what every
+/// output (scan, decision log, export, review screen) reports beside the
+/// observed values.
+pub fn corrected(z_obs: f64, corr_kms: Option<f64>) -> (Option<f64>, Option<f64>) {
+    match corr_kms {
+        Some(c) if c.is_finite() && z_obs.is_finite() => {
+            let zb = apply(z_obs, c);
+            (Some(zb), Some(crate::physics::doppler::velocity_from_z(zb)))
+        }
+        _ => (None, None),
+    }
+}
+
 /// The correction with its details; every missing input is reported at once.
 pub fn compute(meta: &Metadata, ov: &BaryOverrides) -> Result<Correction, BaryError> {
+    compute_layered(meta, &[ov])
+}
+
+/// [`compute`] with several layers of user-supplied values, most specific
+/// first (e.g. a queue-file row, then command-line options). For each input
+/// (time, coordinates, site, exposure): the first layer that has it and says
+/// `replace` wins; else the file's own value; else the first layer that has
+/// it. Named sites of all layers are searched.
+pub fn compute_layered(
+    meta: &Metadata,
+    layers: &[&BaryOverrides],
+) -> Result<Correction, BaryError> {
     let mut notes = Vec::new();
     let mut missing = Vec::new();
-    let time = match observation_time(meta, ov, &mut notes) {
+    let time = match observation_time(meta, layers, &mut notes) {
         Ok(t) => Some(t),
         Err(BaryError::Missing(m)) => {
             missing.extend(m);
@@ -277,7 +306,7 @@ pub fn compute(meta: &Metadata, ov: &BaryOverrides) -> Result<Correction, BaryEr
         }
         Err(e) => return Err(e),
     };
-    let dir = match target_direction(meta, ov, &mut notes) {
+    let dir = match target_direction(meta, layers, &mut notes) {
         Ok(d) => Some(d),
         Err(BaryError::Missing(m)) => {
             missing.extend(m);
@@ -285,7 +314,7 @@ pub fn compute(meta: &Metadata, ov: &BaryOverrides) -> Result<Correction, BaryEr
         }
         Err(e) => return Err(e),
     };
-    let site = match site_position(meta, ov, &mut notes) {
+    let site = match site_position(meta, layers, &mut notes) {
         Ok(s) => Some(s),
         Err(BaryError::Missing(m)) => {
             missing.extend(m);
@@ -442,16 +471,16 @@ fn parse_mjd(keyword: &str, text: &str, scale: TimeScale) -> Result<Instant, Bar
 ///    itself, with a note.
 fn observation_time(
     meta: &Metadata,
-    ov: &BaryOverrides,
+    layers: &[&BaryOverrides],
     notes: &mut Vec<String>,
 ) -> Result<Instant, BaryError> {
-    let scale = match &meta.time_scale {
-        Some(s) if !s.trim().is_empty() => {
-            TimeScale::parse(s).map_err(|e| time_err("TIMESYS", e))?
-        }
-        _ => TimeScale::Utc,
-    };
-    let exposure = match ov.exposure_s.or(meta.exposure_s) {
+    let forced = layers.iter().find(|l| l.replace && l.exposure_s.is_some());
+    let filling = layers.iter().find(|l| l.exposure_s.is_some());
+    let exposure = forced
+        .and_then(|l| l.exposure_s)
+        .or(meta.exposure_s)
+        .or(filling.and_then(|l| l.exposure_s));
+    let exposure = match exposure {
         Some(e) if !e.is_finite() || e < 0.0 => {
             return Err(invalid(
                 "EXPTIME",
@@ -460,16 +489,72 @@ fn observation_time(
         }
         e => e,
     };
-    if let Some((at, r)) = ov.time {
-        return Ok(match (r, exposure) {
-            (TimeRef::Mid, _) => at,
-            (TimeRef::Start, Some(e)) => at.to_scale(TimeScale::Tai).plus_seconds(e / 2.0),
-            (TimeRef::Start, None) => {
-                notes.push("no exposure time: the supplied start time was used".into());
-                at
-            }
-        });
+    let user = layers
+        .iter()
+        .map(|l| {
+            let mut n = Vec::new();
+            let v = l.time.map(|(at, r)| match (r, exposure) {
+                (TimeRef::Mid, _) => at,
+                (TimeRef::Start, Some(e)) => at.to_scale(TimeScale::Tai).plus_seconds(e / 2.0),
+                (TimeRef::Start, None) => {
+                    n.push("no exposure time: the supplied start time was used".into());
+                    at
+                }
+            });
+            (l.replace, v, n)
+        })
+        .collect();
+    pick(user, notes, |n| file_time(meta, exposure, n))
+}
+
+/// Choose between user-supplied values (one per layer: replace flag, value,
+/// notes) and the file's (see [`compute_layered`]); notes of the values not
+/// chosen are dropped.
+fn pick<T>(
+    user: Vec<(bool, Option<T>, Vec<String>)>,
+    notes: &mut Vec<String>,
+    file: impl FnOnce(&mut Vec<String>) -> Result<T, BaryError>,
+) -> Result<T, BaryError> {
+    let mut fill = None;
+    for (replace, v, n) in user {
+        let Some(v) = v else { continue };
+        if replace {
+            notes.extend(n);
+            return Ok(v);
+        }
+        if fill.is_none() {
+            fill = Some((v, n));
+        }
     }
+    let mut file_notes = Vec::new();
+    match (file(&mut file_notes), fill) {
+        (Ok(f), _) => {
+            notes.extend(file_notes);
+            Ok(f)
+        }
+        (Err(_), Some((v, n))) => {
+            notes.extend(n);
+            Ok(v)
+        }
+        (Err(e), None) => {
+            notes.extend(file_notes);
+            Err(e)
+        }
+    }
+}
+
+/// The file's own mid-exposure time (see [`observation_time`]'s rules).
+fn file_time(
+    meta: &Metadata,
+    exposure: Option<f64>,
+    notes: &mut Vec<String>,
+) -> Result<Instant, BaryError> {
+    let scale = match &meta.time_scale {
+        Some(s) if !s.trim().is_empty() => {
+            TimeScale::parse(s).map_err(|e| time_err("TIMESYS", e))?
+        }
+        _ => TimeScale::Utc,
+    };
     if let Some(v) = header(meta, "DATE-AVG") {
         let c = time::parse_date(v).map_err(|e| time_err("DATE-AVG", e))?;
         if c.has_time {
@@ -488,6 +573,16 @@ fn observation_time(
             start = Some(Instant::from_civil(c, scale));
         } else {
             date_only = true;
+        }
+    }
+    if let (Some(a), Some(m)) = (start, meta.mjd_obs)
+        && let Ok(b) = Instant::from_mjd(m, scale)
+    {
+        let ds = (b.mjd_day - a.mjd_day) as f64 * time::DAY_S + (b.seconds - a.seconds);
+        if ds.abs() > 1.0 {
+            notes.push(format!(
+                "DATE-OBS and MJD-OBS differ by {ds:.0} s; DATE-OBS was used"
+            ));
         }
     }
     if start.is_none()
@@ -512,14 +607,17 @@ fn observation_time(
         let d = meta.date_obs.as_deref().unwrap_or_default();
         let c = time::parse_date(d).map_err(|e| time_err("DATE-OBS", e))?;
         for key in ["TIME-OBS", "UT", "UTSTART", "UT-START"] {
-            if let Some(v) = header(meta, key) {
-                let secs = time::parse_time_of_day(v, v).map_err(|e| time_err(key, e))?;
-                start = Some(Instant {
-                    mjd_day: c.mjd_day,
-                    seconds: secs,
-                    scale,
-                });
-                break;
+            let Some(v) = header(meta, key) else { continue };
+            match time::parse_time_of_day(v, v) {
+                Ok(secs) => {
+                    start = Some(Instant {
+                        mjd_day: c.mjd_day,
+                        seconds: secs,
+                        scale,
+                    });
+                    break;
+                }
+                Err(_) => notes.push(format!("{key} = {v} is not hh:mm:ss; not used")),
             }
         }
         if start.is_none() {
@@ -558,18 +656,29 @@ fn observation_time(
 
 fn target_direction(
     meta: &Metadata,
-    ov: &BaryOverrides,
+    layers: &[&BaryOverrides],
     notes: &mut Vec<String>,
 ) -> Result<[f64; 3], BaryError> {
-    let from_user = ov.ra_deg.is_some() && ov.dec_deg.is_some();
-    let (ra, dec, equinox) = if from_user {
-        (ov.ra_deg, ov.dec_deg, ov.equinox)
-    } else {
-        (meta.ra_deg, meta.dec_deg, meta.equinox)
-    };
-    let (Some(ra), Some(dec)) = (ra, dec) else {
-        return Err(BaryError::Missing(vec![Missing::Coordinates]));
-    };
+    let mut user = Vec::new();
+    for l in layers {
+        let v = match (l.ra_deg, l.dec_deg) {
+            (Some(ra), Some(dec)) => Some(direction(ra, dec, l.equinox, &mut Vec::new())?),
+            _ => None,
+        };
+        user.push((l.replace, v, Vec::new()));
+    }
+    pick(user, notes, |n| match (meta.ra_deg, meta.dec_deg) {
+        (Some(ra), Some(dec)) => direction(ra, dec, meta.equinox, n),
+        _ => Err(BaryError::Missing(vec![Missing::Coordinates])),
+    })
+}
+
+fn direction(
+    ra: f64,
+    dec: f64,
+    equinox: Option<f64>,
+    notes: &mut Vec<String>,
+) -> Result<[f64; 3], BaryError> {
     if !ra.is_finite() || !(-360.0..=720.0).contains(&ra) {
         return Err(invalid(
             "RA",
@@ -636,32 +745,164 @@ pub fn site_itrs(site: &Site, keyword: &str) -> Result<Option<[f64; 3]>, BaryErr
 
 fn site_position(
     meta: &Metadata,
-    ov: &BaryOverrides,
+    layers: &[&BaryOverrides],
     notes: &mut Vec<String>,
 ) -> Result<[f64; 3], BaryError> {
-    let mut candidates: Vec<(&Site, &str)> = Vec::new();
-    if let Some(s) = &ov.site {
-        candidates.push((s, "site option"));
+    let sites: Vec<NamedSite> = layers
+        .iter()
+        .flat_map(|l| l.sites.iter().cloned())
+        .collect();
+    let mut user = Vec::new();
+    for l in layers {
+        let mut n = Vec::new();
+        let v = match &l.site {
+            Some(site) => Some(resolve_site(site, "site option", &sites, &mut n)?),
+            None => None,
+        };
+        user.push((l.replace, v, n));
     }
-    candidates.push((&meta.site, "OBSGEO-X/Y/Z or site longitude/latitude"));
-    for (site, keyword) in candidates {
-        if let Some(xyz) = site_itrs(site, keyword)? {
-            if site.geocentric_m.is_none() && site.height_m.is_none() {
-                notes.push("site height unknown: 0 m above the ellipsoid assumed".into());
+    pick(user, notes, |n| {
+        resolve_site(
+            &meta.site,
+            "OBSGEO-X/Y/Z or site longitude/latitude",
+            &sites,
+            n,
+        )
+    })
+}
+
+fn resolve_site(
+    site: &Site,
+    keyword: &str,
+    sites: &[NamedSite],
+    notes: &mut Vec<String>,
+) -> Result<[f64; 3], BaryError> {
+    if let Some(xyz) = site_itrs(site, keyword)? {
+        if site.geocentric_m.is_none() && site.height_m.is_none() {
+            notes.push("site height unknown: 0 m above the ellipsoid assumed".into());
+        }
+        return Ok(xyz);
+    }
+    match site
+        .name
+        .as_deref()
+        .map(str::trim)
+        .filter(|n| !n.is_empty())
+    {
+        Some(name) => match find_site(sites, name) {
+            Some(found) => site_itrs(&found, "configured site")?
+                .ok_or_else(|| invalid("configured site", "no coordinates")),
+            None => Err(BaryError::Missing(vec![Missing::UnconfiguredSite(
+                name.to_string(),
+            )])),
+        },
+        None => Err(BaryError::Missing(vec![Missing::Site])),
+    }
+}
+
+/// Column names a queue file (or any table of targets) may use to supply what
+/// the correction needs, in the order they are documented.
+pub const COLUMNS: [&str; 14] = [
+    "ra",
+    "dec",
+    "equinox",
+    "obs_time",
+    "timesys",
+    "time_ref",
+    "exptime",
+    "site",
+    "site_lon",
+    "site_lat",
+    "site_height",
+    "obsgeo_x",
+    "obsgeo_y",
+    "obsgeo_z",
+];
+
+/// Overrides from one row of a table: `get(column)` returns the cell (None or
+/// empty when absent). Columns ([`COLUMNS`]): `ra`, `dec` (degrees, or
+/// `hh:mm:ss` / `dd:mm:ss`), `equinox` (years), `obs_time` (ISO 8601 or
+/// `MJD…`), `timesys` (default UTC), `time_ref` (`start`, the default, or
+/// `mid`), `exptime` (s), `site` (a configured name), `site_lon`, `site_lat`,
+/// `site_height` (degrees, metres), `obsgeo_x/y/z` (metres). A row's values
+/// are specific to its target, so they replace the file's
+/// ([`BaryOverrides::replace`] is true). Errors name the column.
+pub fn overrides_from_columns<'a>(
+    get: impl Fn(&str) -> Option<&'a str>,
+) -> Result<BaryOverrides, BaryError> {
+    let cell = |k: &str| get(k).map(str::trim).filter(|v| !v.is_empty());
+    let num = |k: &str| -> Result<Option<f64>, BaryError> {
+        cell(k)
+            .map(|v| {
+                v.parse::<f64>()
+                    .ok()
+                    .filter(|x| x.is_finite())
+                    .ok_or_else(|| invalid(k, format!("'{v}' is not a number")))
+            })
+            .transpose()
+    };
+    let mut ov = BaryOverrides {
+        replace: true,
+        ..BaryOverrides::default()
+    };
+    match (cell("ra"), cell("dec")) {
+        (Some(ra), Some(dec)) => {
+            let (r, d) = parse_radec(&format!("{ra},{dec}")).map_err(|m| invalid("ra/dec", m))?;
+            ov.ra_deg = Some(r);
+            ov.dec_deg = Some(d);
+            ov.equinox = num("equinox")?;
+        }
+        (None, None) => {}
+        _ => return Err(invalid("ra/dec", "give both ra and dec, or neither")),
+    }
+    if let Some(t) = cell("obs_time") {
+        let scale = match cell("timesys") {
+            Some(s) => TimeScale::parse(s).map_err(|e| invalid("timesys", e.to_string()))?,
+            None => TimeScale::Utc,
+        };
+        let at = parse_time(t, scale).map_err(|m| invalid("obs_time", m))?;
+        let r = match cell("time_ref").map(str::to_ascii_lowercase).as_deref() {
+            None | Some("start") => TimeRef::Start,
+            Some("mid") | Some("middle") => TimeRef::Mid,
+            Some(other) => {
+                return Err(invalid(
+                    "time_ref",
+                    format!("'{other}' is not start or mid"),
+                ));
             }
-            return Ok(xyz);
-        }
-        if let Some(name) = site.name.as_deref().filter(|n| !n.trim().is_empty()) {
-            return match find_site(&ov.sites, name) {
-                Some(found) => Ok(site_itrs(&found, "configured site")?
-                    .ok_or_else(|| invalid("configured site", "no coordinates"))?),
-                None => Err(BaryError::Missing(vec![Missing::UnconfiguredSite(
-                    name.trim().to_string(),
-                )])),
-            };
-        }
+        };
+        ov.time = Some((at, r));
     }
-    Err(BaryError::Missing(vec![Missing::Site]))
+    if let Some(e) = num("exptime")? {
+        if e < 0.0 {
+            return Err(invalid("exptime", format!("{e} is negative")));
+        }
+        ov.exposure_s = Some(e);
+    }
+    let (x, y, z) = (num("obsgeo_x")?, num("obsgeo_y")?, num("obsgeo_z")?);
+    let (lon, lat, h) = (num("site_lon")?, num("site_lat")?, num("site_height")?);
+    ov.site = if let (Some(x), Some(y), Some(z)) = (x, y, z) {
+        Some(parse_xyz(&format!("{x},{y},{z}")).map_err(|m| invalid("obsgeo_x/y/z", m))?)
+    } else if let (Some(lon), Some(lat)) = (lon, lat) {
+        let text = format!("{lon},{lat},{}", h.unwrap_or(0.0));
+        Some(parse_lonlat(&text).map_err(|m| invalid("site_lon/site_lat", m))?)
+    } else if x.is_some() || y.is_some() || z.is_some() {
+        return Err(invalid(
+            "obsgeo_x/y/z",
+            "give all three of obsgeo_x, obsgeo_y, obsgeo_z",
+        ));
+    } else if lon.is_some() || lat.is_some() {
+        return Err(invalid(
+            "site_lon/site_lat",
+            "give both site_lon and site_lat",
+        ));
+    } else {
+        cell("site").map(|n| Site {
+            name: Some(crate::text::clean(n)),
+            ..Site::default()
+        })
+    };
+    Ok(ov)
 }
 
 /// Parse a user-supplied site `LON,LAT[,HEIGHT]` (east longitude and
@@ -866,6 +1107,16 @@ mod tests {
         assert_eq!(apply(0.5, 0.0), 0.5);
     }
 
+    #[test]
+    fn corrected_values_are_absent_without_a_correction_and_relativistic_with_one() {
+        assert_eq!(corrected(0.1, None), (None, None));
+        let (zb, vb) = corrected(0.0, Some(10.0));
+        // z = v/c for the correction alone; the relativistic velocity of that z is
+        // ~10 km/s less (10^2/2c) ~ 0.17 m/s.
+        assert!((zb.unwrap() - 10.0 / 299_792.458).abs() < 1e-15);
+        assert!((vb.unwrap() - 10.0).abs() < 1e-3);
+    }
+
     fn meta_with(date: &str, exptime: Option<f64>) -> Metadata {
         Metadata {
             ra_deg: Some(10.0),
@@ -902,6 +1153,16 @@ mod tests {
         )
         .unwrap();
         assert!(c.notes.iter().any(|n| n.contains("EXPTIME")));
+        // A disagreeing MJD-OBS is noted, DATE-OBS wins.
+        let mut m = meta_with("2024-03-01T02:00:00", Some(0.0));
+        m.mjd_obs = Some(60_370.5);
+        let c = compute(&m, &BaryOverrides::default()).unwrap();
+        assert!(
+            c.notes.iter().any(|n| n.contains("MJD-OBS")),
+            "{:?}",
+            c.notes
+        );
+        assert_eq!(c.mid_utc.seconds, 7200.0);
     }
 
     #[test]
@@ -1037,5 +1298,103 @@ mod tests {
         assert_eq!((t.mjd_day, t.seconds), (60_512, 21_600.0));
         assert!(parse_time("2024-07-01", TimeScale::Utc).is_err());
         assert!(parse_time("2024-07-01T03:00:00", TimeScale::Utc).is_ok());
+    }
+
+    #[test]
+    fn supplied_values_fill_gaps_by_default_and_replace_the_file_only_when_asked() {
+        let file = meta_with("2024-03-01T02:00:00", Some(0.0));
+        let other = Instant::from_civil(parse_date("2024-09-01T14:00:00").unwrap(), TimeScale::Utc);
+        let mut ov = BaryOverrides {
+            time: Some((other, TimeRef::Mid)),
+            ra_deg: Some(200.0),
+            dec_deg: Some(10.0),
+            site: Some(parse_lonlat("100,-20,0").unwrap()),
+            ..BaryOverrides::default()
+        };
+        let own = correction_kms(&file, &BaryOverrides::default()).unwrap();
+        assert_eq!(correction_kms(&file, &ov).unwrap(), own);
+        ov.replace = true;
+        let replaced = correction_kms(&file, &ov).unwrap();
+        assert_eq!(replaced, correction_kms(&Metadata::default(), &ov).unwrap());
+        assert!((replaced - own).abs() > 1.0);
+        // An unusable header value gives way to the supplied one even when filling.
+        ov.replace = false;
+        let mut broken = file.clone();
+        broken.date_obs = Some("2024-02-30T00:00:00".into());
+        broken.ra_deg = None;
+        broken.site = Site::default();
+        assert_eq!(correction_kms(&broken, &ov).unwrap(), replaced);
+    }
+
+    #[test]
+    fn table_columns_become_overrides_and_bad_cells_name_their_column() {
+        let row = |pairs: &'static [(&'static str, &'static str)]| {
+            move |k: &str| pairs.iter().find(|(c, _)| *c == k).map(|(_, v)| *v)
+        };
+        let ov = overrides_from_columns(row(&[
+            ("ra", "10:00:00"),
+            ("dec", "-05:30:00"),
+            ("obs_time", "2025-01-02T03:04:05"),
+            ("timesys", "TT"),
+            ("time_ref", "mid"),
+            ("site_lon", "12.5"),
+            ("site_lat", "-30"),
+        ]))
+        .unwrap();
+        assert!(ov.replace);
+        assert_eq!((ov.ra_deg, ov.dec_deg), (Some(150.0), Some(-5.5)));
+        let (at, r) = ov.time.unwrap();
+        assert_eq!((at.scale, r), (TimeScale::Tt, TimeRef::Mid));
+        assert_eq!(ov.site.as_ref().unwrap().height_m, Some(0.0));
+        let named = overrides_from_columns(row(&[("site", "Kestrel Hill")])).unwrap();
+        assert_eq!(named.site.unwrap().name.as_deref(), Some("Kestrel Hill"));
+        assert!(overrides_from_columns(row(&[])).unwrap().site.is_none());
+        for (bad, col) in [
+            (&[("ra", "10")][..], "ra/dec"),
+            (&[("obs_time", "yesterday")][..], "obs_time"),
+            (&[("exptime", "long")][..], "exptime"),
+            (&[("obsgeo_x", "1"), ("obsgeo_y", "2")][..], "obsgeo_x/y/z"),
+            (
+                &[("obs_time", "2025-01-02T03:04:05"), ("time_ref", "end")][..],
+                "time_ref",
+            ),
+        ] {
+            let owned: Vec<(String, String)> = bad
+                .iter()
+                .map(|(a, b)| (a.to_string(), b.to_string()))
+                .collect();
+            let get = |k: &str| owned.iter().find(|(c, _)| c == k).map(|(_, v)| v.as_str());
+            match overrides_from_columns(get) {
+                Err(BaryError::Invalid { keyword, .. }) => assert_eq!(keyword, col),
+                other => panic!("{bad:?}: {other:?}"),
+            }
+        }
+    }
+
+    #[test]
+    fn layers_apply_replace_then_file_then_fill_in_order() {
+        let file = meta_with("2024-03-01T02:00:00", Some(0.0));
+        let own = correction_kms(&file, &BaryOverrides::default()).unwrap();
+        let t = |s: &str| Instant::from_civil(parse_date(s).unwrap(), TimeScale::Utc);
+        let row = BaryOverrides {
+            time: Some((t("2024-09-01T14:00:00"), TimeRef::Mid)),
+            replace: true,
+            ..BaryOverrides::default()
+        };
+        let global = BaryOverrides {
+            time: Some((t("2024-06-01T00:00:00"), TimeRef::Mid)),
+            ..BaryOverrides::default()
+        };
+        let both = compute_layered(&file, &[&row, &global]).unwrap();
+        let row_only = compute_layered(&file, &[&row]).unwrap();
+        assert_eq!(both.kms, row_only.kms);
+        assert!((both.kms - own).abs() > 1.0);
+        // A filling layer does not displace the file's time.
+        assert_eq!(compute_layered(&file, &[&global]).unwrap().kms, own);
+        // ... but supplies it when the file has none.
+        let mut bare = file.clone();
+        bare.date_obs = None;
+        let filled = compute_layered(&bare, &[&BaryOverrides::default(), &global]).unwrap();
+        assert_eq!(filled.mid_utc, t("2024-06-01T00:00:00"));
     }
 }

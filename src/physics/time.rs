@@ -207,6 +207,12 @@ pub fn parse_date(text: &str) -> Result<CivilTime, TimeError> {
     if t.is_empty() {
         return Err(bad(text, "it is empty"));
     }
+    if !t.is_ascii() {
+        return Err(bad(
+            text,
+            "it contains characters other than digits, '-', ':', '.', 'T'",
+        ));
+    }
     // Old form DD/MM/YY.
     if t.len() == 8 && t.as_bytes()[2] == b'/' && t.as_bytes()[5] == b'/' {
         let d = parse_int(text, &t[0..2], "day")?;

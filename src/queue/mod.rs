@@ -19,7 +19,9 @@
 //! ```
 //! Relative paths are relative to the queue file's folder. An empty target
 //! means the file stem; priority is an integer (larger is more urgent,
-//! default 0).
+//! default 0). Optional columns supply what the barycentric correction needs
+//! when the spectrum's header lacks it (`ra`, `dec`, `obs_time`, `site`,
+//! `site_lon`, ...; see [`crate::physics::bary::overrides_from_columns`]).
 
 mod scanfile;
 
@@ -79,6 +81,10 @@ pub struct Item {
     pub note: Option<String>,
     /// The batch answer, when the queue came from a scan output.
     pub scan: Option<ScanSummary>,
+    /// What the queue file's barycentric columns supply for this target
+    /// (see [`crate::physics::bary::overrides_from_columns`]); `None` when the
+    /// row has none of them.
+    pub bary: Option<crate::physics::bary::BaryOverrides>,
 }
 
 impl Item {
@@ -93,6 +99,7 @@ impl Item {
             priority: 0,
             note: None,
             scan: None,
+            bary: None,
         }
     }
 
@@ -280,6 +287,20 @@ impl Queue {
             if !n.is_empty() {
                 item.note = Some(n.to_string());
             }
+            let bary_cell = |k: &str| col(k).and_then(|c| rec.get(c)).filter(|v| !v.is_empty());
+            if crate::physics::bary::COLUMNS
+                .iter()
+                .any(|k| bary_cell(k).is_some())
+            {
+                let ov = crate::physics::bary::overrides_from_columns(bary_cell).map_err(|e| {
+                    QueueError::Line {
+                        path: path.to_path_buf(),
+                        line,
+                        message: crate::text::clean(&e.to_string()),
+                    }
+                })?;
+                item.bary = Some(ov);
+            }
             items.push(item);
         }
         let mut q = Queue::from_items(items);
@@ -305,6 +326,7 @@ impl Queue {
                 priority: 0,
                 note: None,
                 scan: Some(e.summary),
+                bary: None,
             })
             .collect();
         let mut q = Queue::from_items(items);

@@ -355,7 +355,7 @@ fn parse_hdus(ctx: &Ctx, bytes: &[u8]) -> Result<(Vec<Hdu>, Vec<String>), Spectr
 
 /// Outcome of trying one HDU.
 enum Try {
-    Found(Spectrum),
+    Found(Box<Spectrum>),
     /// Not a spectrum, for a harmless reason (no data, a table with no flux column...).
     Skip(String),
     /// Looked like the spectrum but is broken.
@@ -378,7 +378,7 @@ pub fn read_bytes(
     for h in &hdus {
         let outcome = try_hdu(&ctx, bytes, h, primary, opts, &warnings);
         match outcome {
-            Try::Found(s) => return Ok(s),
+            Try::Found(s) => return Ok(*s),
             Try::Skip(why) => skipped.push(format!("HDU {}: {why}", h.index)),
             Try::Broken(e) => {
                 if first_broken.is_none() {
@@ -458,7 +458,7 @@ fn try_hdu(
         }
     };
     match assemble::finish(ctx.path, raw, meta, opts, &place) {
-        Ok(s) => Try::Found(s),
+        Ok(s) => Try::Found(Box::new(s)),
         Err(e) => Try::Broken(e),
     }
 }
@@ -1131,7 +1131,12 @@ fn fill_metadata(ctx: &Ctx, h: &Hdu, primary: &Hdu, meta: &mut Metadata) {
     if meta.flux_unit.is_none() {
         meta.flux_unit = text("BUNIT").map(|s| crate::text::clean(&s));
     }
-    for k in ["INSTRUME", "TELESCOP", "OBSERVAT", "AIRMASS", "OBSERVER"] {
+    // The time keywords after OBSERVER are read by the barycentric correction
+    // (physics::bary: mid-exposure and time-of-day rules).
+    for k in [
+        "INSTRUME", "TELESCOP", "OBSERVAT", "AIRMASS", "OBSERVER", "DATE-AVG", "MJD-AVG",
+        "DATE-BEG", "MJD-BEG", "DATE-END", "MJD-END", "TIME-OBS", "UT", "UTSTART",
+    ] {
         if let Some(v) = get(k) {
             meta.header.push((k.to_string(), show(v)));
         }
