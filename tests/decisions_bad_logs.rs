@@ -4,10 +4,11 @@
 
 mod decisions_common;
 
-use decisions_common::{zsift, Tmpfs};
+use decisions_common::{Tmpfs, zsift};
 use std::io::Write;
 use zsift::decisions::{
-    log_file_name, replay, Log, LogError, ProblemKind, Record, Solution, Source, Status, TORN_SUFFIX,
+    Log, LogError, ProblemKind, Record, Solution, Source, Status, TORN_SUFFIX, log_file_name,
+    replay,
 };
 
 fn three_records(log: &Log, target: &str) {
@@ -15,10 +16,17 @@ fn three_records(log: &Log, target: &str) {
         z: Some(0.25),
         ..Solution::default()
     };
-    log.append(&Record::note(target, "ana", "first")).expect("append");
-    log.append(&Record::accept(target, "ana", sol, Source::Candidate { rank: 1 }))
+    log.append(&Record::note(target, "ana", "first"))
         .expect("append");
-    log.append(&Record::note(target, "ana", "third")).expect("append");
+    log.append(&Record::accept(
+        target,
+        "ana",
+        sol,
+        Source::Candidate { rank: 1 },
+    ))
+    .expect("append");
+    log.append(&Record::note(target, "ana", "third"))
+        .expect("append");
 }
 
 fn append_raw(path: &std::path::Path, bytes: &[u8]) {
@@ -57,7 +65,8 @@ fn a_torn_last_line_is_reported_set_aside_and_the_lines_before_it_kept() {
     assert!(reps[0].side_file.to_string_lossy().ends_with(TORN_SUFFIX));
 
     // The log continues on a fresh line.
-    log.append(&Record::reject("Orla-17", "ben")).expect("append after repair");
+    log.append(&Record::reject("Orla-17", "ben"))
+        .expect("append after repair");
     let r = replay(tmp.path()).expect("replay");
     assert!(r.problems.is_empty(), "{:?}", r.problems);
     assert_eq!(r.records, 4);
@@ -82,7 +91,8 @@ fn an_append_after_another_process_died_mid_line_still_starts_a_fresh_line() {
 fn garbage_lines_and_unknown_schemas_are_named_by_file_and_line_and_the_rest_is_read() {
     let tmp = tempfile::tempdir().expect("tempdir");
     let log = Log::open(tmp.path()).expect("open");
-    log.append(&Record::note("Orla-19", "ana", "before")).expect("append");
+    log.append(&Record::note("Orla-19", "ana", "before"))
+        .expect("append");
     let file = log.file_for("Orla-19");
     append_raw(&file, b"hello, not json\n");
     append_raw(&file, b"[1,2,3]\n");
@@ -92,11 +102,16 @@ fn garbage_lines_and_unknown_schemas_are_named_by_file_and_line_and_the_rest_is_
     future["schema"] = serde_json::json!(7);
     append_raw(&file, format!("{future}\n").as_bytes());
     append_raw(&file, b"{\"schema\":1,\"id\":\"x\"}\n");
-    log.append(&Record::reject("Orla-19", "ana")).expect("append");
+    log.append(&Record::reject("Orla-19", "ana"))
+        .expect("append");
 
     let r = replay(tmp.path()).expect("replay");
     assert_eq!(r.records, 2, "the two good lines are read");
-    assert_eq!(r.status("Orla-19"), Status::Rejected, "the schema-7 reject by zed is not used");
+    assert_eq!(
+        r.status("Orla-19"),
+        Status::Rejected,
+        "the schema-7 reject by zed is not used"
+    );
     let lines: Vec<usize> = r.problems.iter().filter_map(|p| p.line).collect();
     assert_eq!(lines, vec![2, 3, 4, 5, 6, 7]);
     assert!(matches!(r.problems[4].kind, ProblemKind::UnknownSchema(7)));
@@ -114,10 +129,14 @@ fn garbage_lines_and_unknown_schemas_are_named_by_file_and_line_and_the_rest_is_
         .expect("run export");
     assert_eq!(out.status.code(), Some(3));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains("line 6") && err.contains("schema version 7"), "{err}");
+    assert!(
+        err.contains("line 6") && err.contains("schema version 7"),
+        "{err}"
+    );
     assert!(String::from_utf8_lossy(&out.stdout).contains("Orla-19,rejected"));
 }
 
+#[cfg(unix)]
 #[test]
 fn a_symbolic_link_planted_in_the_log_folder_is_refused() {
     let tmp = tempfile::tempdir().expect("tempdir");
@@ -126,15 +145,22 @@ fn a_symbolic_link_planted_in_the_log_folder_is_refused() {
     let outside = tmp.path().join("outside.txt");
     std::fs::write(&outside, "precious\n").expect("write");
     std::os::unix::fs::symlink(&outside, log.file_for("Orla-20")).expect("symlink");
-    let e = log.append(&Record::reject("Orla-20", "ana")).expect_err("must refuse");
+    let e = log
+        .append(&Record::reject("Orla-20", "ana"))
+        .expect_err("must refuse");
     assert!(matches!(e, LogError::NotAFile { .. }), "{e}");
-    assert_eq!(std::fs::read_to_string(&outside).expect("read"), "precious\n");
+    assert_eq!(
+        std::fs::read_to_string(&outside).expect("read"),
+        "precious\n"
+    );
 }
 
 #[test]
 fn a_full_disk_gives_a_clear_error_and_keeps_every_earlier_decision() {
     let Some(fs) = Tmpfs::mount("64k") else {
-        eprintln!("SKIPPED: cannot mount a tmpfs here (needs root); covered by the unit tests of the write path");
+        eprintln!(
+            "SKIPPED: cannot mount a tmpfs here (needs root); covered by the unit tests of the write path"
+        );
         return;
     };
     let dir = fs.path().join("log");
@@ -148,10 +174,23 @@ fn a_full_disk_gives_a_clear_error_and_keeps_every_earlier_decision() {
         }
         assert!(ok < 1000, "a 64 KiB disk cannot take 1000 records");
     };
-    assert!(matches!(err, LogError::DiskFull { rolled_back: true, .. }), "{err}");
+    assert!(
+        matches!(
+            err,
+            LogError::DiskFull {
+                rolled_back: true,
+                ..
+            }
+        ),
+        "{err}"
+    );
     assert!(err.to_string().contains("full") && err.to_string().contains("NOT saved"));
     let r = replay(&dir).expect("replay");
-    assert!(r.problems.is_empty(), "no partial line left: {:?}", r.problems);
+    assert!(
+        r.problems.is_empty(),
+        "no partial line left: {:?}",
+        r.problems
+    );
     assert_eq!(r.records, ok);
 
     // The command line says so and exits 1, printing no `saved`.

@@ -5,7 +5,7 @@ mod decisions_common;
 
 use decisions_common::{scan_line, write_lines, zsift};
 use std::process::Stdio;
-use zsift::decisions::{replay, Log, Record, Status};
+use zsift::decisions::{Log, Record, Status, replay};
 
 #[test]
 fn four_processes_deciding_the_same_targets_lose_and_interleave_nothing() {
@@ -28,7 +28,13 @@ fn four_processes_deciding_the_same_targets_lose_and_interleave_nothing() {
                 .arg(&log_dir)
                 .arg("--from")
                 .arg(&scan)
-                .args(["--accept-grade", "good", "--include-decided", "--observer", who])
+                .args([
+                    "--accept-grade",
+                    "good",
+                    "--include-decided",
+                    "--observer",
+                    who,
+                ])
                 .stdout(Stdio::piped())
                 .stderr(Stdio::piped())
                 .spawn()
@@ -37,7 +43,12 @@ fn four_processes_deciding_the_same_targets_lose_and_interleave_nothing() {
     }
     for c in children {
         let out = c.wait_with_output().expect("wait");
-        assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+        assert_eq!(
+            out.status.code(),
+            Some(0),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
         let saved = String::from_utf8_lossy(&out.stdout)
             .lines()
             .filter(|l| l.starts_with("saved "))
@@ -54,7 +65,10 @@ fn four_processes_deciding_the_same_targets_lose_and_interleave_nothing() {
         who.sort_unstable();
         assert_eq!(who, observers, "{t}");
         assert_eq!(st.status, Status::Conflict, "{t}: four different redshifts");
-        assert!(st.conflict_summary().is_some_and(|s| s.contains("ben: accept")));
+        assert!(
+            st.conflict_summary()
+                .is_some_and(|s| s.contains("ben: accept"))
+        );
     }
 }
 
@@ -90,7 +104,10 @@ fn eight_threads_appending_long_records_to_three_files_never_interleave() {
         for rec in &st.records {
             let n = rec.note.as_deref().expect("note");
             let first = n.chars().next().expect("non-empty");
-            assert!(n.chars().all(|c| c == first) && n.len() == 6000, "a note was mixed");
+            assert!(
+                n.chars().all(|c| c == first) && n.len() == 6000,
+                "a note was mixed"
+            );
         }
     }
 }

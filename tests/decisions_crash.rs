@@ -9,7 +9,7 @@ use decisions_common::{scan_line, write_lines, zsift};
 use std::io::{BufRead, BufReader};
 use std::process::Stdio;
 use std::time::{Duration, Instant};
-use zsift::decisions::{replay, Log, ProblemKind};
+use zsift::decisions::{Log, ProblemKind, replay};
 
 /// A tiny deterministic generator (xorshift64*), so a failing trial can be
 /// rerun with the same kill moments.
@@ -27,7 +27,7 @@ impl Rng {
 fn every_decision_reported_saved_survives_sigkill_at_random_moments() {
     let tmp = tempfile::tempdir().expect("tempdir");
     let log_dir = tmp.path().join("log");
-    let mut rng = Rng(0x5eed_0f_0b5e_7a11);
+    let mut rng = Rng(0x005e_ed0f_0b5e_7a11);
     let trials = 30;
     let targets = 25; // the same files are appended to across trials
     let mut reported: Vec<(String, f64)> = Vec::new();
@@ -61,7 +61,13 @@ fn every_decision_reported_saved_survives_sigkill_at_random_moments() {
             .arg(&log_dir)
             .arg("--from")
             .arg(&scan)
-            .args(["--accept-grade", "fair", "--include-decided", "--observer", "crash"])
+            .args([
+                "--accept-grade",
+                "fair",
+                "--include-decided",
+                "--observer",
+                "crash",
+            ])
             .stdout(Stdio::piped())
             .stderr(Stdio::null())
             .spawn()
@@ -88,20 +94,28 @@ fn every_decision_reported_saved_survives_sigkill_at_random_moments() {
             reported.push(entries[j].clone());
         }
     }
-    assert!(killed_mid_run >= trials / 2, "most runs must be killed mid-way ({killed_mid_run})");
+    assert!(
+        killed_mid_run >= trials / 2,
+        "most runs must be killed mid-way ({killed_mid_run})"
+    );
     assert!(!reported.is_empty(), "some decisions must have been saved");
 
     // Every log replays: nothing but (possibly) an unfinished last line.
     let r = replay(&log_dir).expect("replay");
     for p in &r.problems {
-        assert!(matches!(p.kind, ProblemKind::TornTail(_)), "unexpected problem: {p}");
+        assert!(
+            matches!(p.kind, ProblemKind::TornTail(_)),
+            "unexpected problem: {p}"
+        );
     }
     // Opening the log sets any torn tail aside; then replay is clean.
     let log = Log::open(&log_dir).expect("open");
     let r = log.replay().expect("replay");
     assert!(r.problems.is_empty(), "{:?}", r.problems);
     for (target, z) in &reported {
-        let st = r.state(target).unwrap_or_else(|| panic!("{target} missing"));
+        let st = r
+            .state(target)
+            .unwrap_or_else(|| panic!("{target} missing"));
         assert!(
             st.records
                 .iter()
@@ -128,7 +142,9 @@ fn single_decide_processes_killed_at_random_never_leave_a_half_record() {
         let mut child = zsift()
             .args(["decide", "--log"])
             .arg(&log_dir)
-            .args(["--target", "Orla-99", "--action", "accept", "--class", "qso", "--z", &z])
+            .args([
+                "--target", "Orla-99", "--action", "accept", "--class", "qso", "--z", &z,
+            ])
             .stdout(Stdio::piped())
             .stderr(Stdio::null())
             .spawn()
@@ -144,7 +160,12 @@ fn single_decide_processes_killed_at_random_never_leave_a_half_record() {
     assert!(r.problems.is_empty(), "{:?}", r.problems);
     let zs: Vec<f64> = r
         .state("Orla-99")
-        .map(|s| s.records.iter().filter_map(|x| x.solution.as_ref()?.z).collect())
+        .map(|s| {
+            s.records
+                .iter()
+                .filter_map(|x| x.solution.as_ref()?.z)
+                .collect()
+        })
         .unwrap_or_default();
     for z in &saved {
         assert!(zs.contains(z), "saved z={z} missing; log has {zs:?}");

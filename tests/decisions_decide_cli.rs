@@ -4,7 +4,7 @@
 mod decisions_common;
 
 use decisions_common::{scan_line, write_lines, zsift};
-use zsift::decisions::{replay, Action, Source, Status};
+use zsift::decisions::{Action, Source, Status, replay};
 use zsift::identify::Grade;
 
 fn run(args: &[&str], log: &std::path::Path) -> (Option<i32>, String, String) {
@@ -30,18 +30,45 @@ fn a_scripted_accept_then_undo_leaves_the_target_undecided_with_both_records_kep
     std::fs::write(&spectrum, "4000 1.0\n4001 1.1\n").expect("write");
     let (code, out, err) = run(
         &[
-            "--target", "Orla-5", "--action", "accept", "--z", "0.0512", "--z-err", "0.0001",
-            "--class", "galaxy", "--observer", "ana", "--input",
+            "--target",
+            "Orla-5",
+            "--action",
+            "accept",
+            "--z",
+            "0.0512",
+            "--z-err",
+            "0.0001",
+            "--class",
+            "galaxy",
+            "--observer",
+            "ana",
+            "--input",
         ],
         &log,
     );
     // (--input takes the next argument)
-    assert_eq!(code, Some(2), "--input without a file is a usage error: {err}");
+    assert_eq!(
+        code,
+        Some(2),
+        "--input without a file is a usage error: {err}"
+    );
     assert!(out.is_empty());
     let (code, out, err) = run(
         &[
-            "--target", "Orla-5", "--action", "accept", "--z", "0.0512", "--z-err", "0.0001",
-            "--class", "galaxy", "--observer", "ana", "--input", spectrum.to_str().expect("utf-8"),
+            "--target",
+            "Orla-5",
+            "--action",
+            "accept",
+            "--z",
+            "0.0512",
+            "--z-err",
+            "0.0001",
+            "--class",
+            "galaxy",
+            "--observer",
+            "ana",
+            "--input",
+            spectrum.to_str().expect("utf-8"),
         ],
         &log,
     );
@@ -53,13 +80,37 @@ fn a_scripted_accept_then_undo_leaves_the_target_undecided_with_both_records_kep
     let rec = &st.records[0];
     assert_eq!(rec.observer, "ana");
     assert_eq!(rec.source, Some(Source::Hand));
-    assert_eq!(rec.input.as_ref().map(|f| f.bytes), Some(18), "4000 1.0\\n4001 1.1\\n is 18 bytes");
+    assert_eq!(
+        rec.input.as_ref().map(|f| f.bytes),
+        Some(18),
+        "4000 1.0\\n4001 1.1\\n is 18 bytes"
+    );
     assert_eq!(rec.tool_version, zsift::VERSION);
 
-    let (code, out, _) = run(&["--target", "Orla-5", "--action", "undo", "--observer", "ben"], &log);
+    let (code, out, _) = run(
+        &[
+            "--target",
+            "Orla-5",
+            "--action",
+            "undo",
+            "--observer",
+            "ben",
+        ],
+        &log,
+    );
     assert_eq!(code, Some(1), "ben has nothing to undo");
     assert!(out.is_empty());
-    let (code, out, err) = run(&["--target", "Orla-5", "--action", "undo", "--observer", "ana"], &log);
+    let (code, out, err) = run(
+        &[
+            "--target",
+            "Orla-5",
+            "--action",
+            "undo",
+            "--observer",
+            "ana",
+        ],
+        &log,
+    );
     assert_eq!(code, Some(0), "{err}");
     assert_eq!(out, "saved Orla-5\n");
     let r = replay(&log).expect("replay");
@@ -67,7 +118,10 @@ fn a_scripted_accept_then_undo_leaves_the_target_undecided_with_both_records_kep
     assert_eq!(st.status, Status::Undecided);
     assert_eq!(st.records.len(), 2);
     assert_eq!(st.records[1].action, Action::Undo);
-    assert_eq!(st.records[1].undoes.as_deref(), Some(st.records[0].id.as_str()));
+    assert_eq!(
+        st.records[1].undoes.as_deref(),
+        Some(st.records[0].id.as_str())
+    );
 }
 
 #[test]
@@ -110,17 +164,32 @@ fn bulk_acceptance_takes_rank_1_at_or_above_the_grade_and_reports_every_skip() {
         ],
     );
     let s = scan.to_str().expect("utf-8");
-    let (code, out, err) = run(&["--from", s, "--accept-grade", "good", "--observer", "pipe"], &log);
+    let (code, out, err) = run(
+        &["--from", s, "--accept-grade", "good", "--observer", "pipe"],
+        &log,
+    );
     assert_eq!(code, Some(3), "skips give exit 3: {err}");
     let lines: Vec<&str> = out.lines().collect();
-    assert_eq!(lines.iter().filter(|l| l.starts_with("saved ")).count(), 2, "{out}");
+    assert_eq!(
+        lines.iter().filter(|l| l.starts_with("saved ")).count(),
+        2,
+        "{out}"
+    );
     assert!(out.contains("saved Orla-1\n") && out.contains("saved Orla-2\n"));
-    assert!(out.contains("skipped Orla-3: rank-1 grade fair is below good"), "{out}");
+    assert!(
+        out.contains("skipped Orla-3: rank-1 grade fair is below good"),
+        "{out}"
+    );
     assert!(out.contains("skipped Orla-4: rank-1 grade poor is below good"));
-    assert!(out.contains("skipped Orla-5: the scan could not use this input (HDU 1 keyword CDELT1 missing)"));
+    assert!(out.contains(
+        "skipped Orla-5: the scan could not use this input (HDU 1 keyword CDELT1 missing)"
+    ));
     assert!(out.contains("skipped Orla-6: the scan found no candidate"));
     assert!(out.contains("skipped line 7:"));
-    assert!(out.contains("skipped Orla-1: already accepted"), "a repeat in one file is not re-accepted: {out}");
+    assert!(
+        out.contains("skipped Orla-1: already accepted"),
+        "a repeat in one file is not re-accepted: {out}"
+    );
     assert!(err.contains("2 accepted, 6 skipped"), "{err}");
 
     let r = replay(&log).expect("replay");
@@ -133,23 +202,48 @@ fn bulk_acceptance_takes_rank_1_at_or_above_the_grade_and_reports_every_skip() {
     assert_eq!(st.records[0].source, Some(Source::Candidate { rank: 1 }));
 
     // A second run does not re-accept what is decided, unless asked.
-    let (code, out, _) = run(&["--from", s, "--accept-grade", "high", "--observer", "pipe"], &log);
+    let (code, out, _) = run(
+        &["--from", s, "--accept-grade", "high", "--observer", "pipe"],
+        &log,
+    );
     assert_eq!(code, Some(3));
     assert!(!out.contains("saved "), "{out}");
-    assert!(out.contains("skipped Orla-1: already accepted by pipe"), "{out}");
+    assert!(
+        out.contains("skipped Orla-1: already accepted by pipe"),
+        "{out}"
+    );
     let (code, out, _) = run(
-        &["--from", s, "--accept-grade", "high", "--observer", "pipe2", "--include-decided"],
+        &[
+            "--from",
+            s,
+            "--accept-grade",
+            "high",
+            "--observer",
+            "pipe2",
+            "--include-decided",
+        ],
         &log,
     );
     assert_eq!(code, Some(3));
     assert_eq!(out.matches("saved Orla-1\n").count(), 1, "{out}");
-    assert_eq!(replay(&log).expect("replay").state("Orla-1").map(|s| s.records.len()), Some(2));
+    assert_eq!(
+        replay(&log)
+            .expect("replay")
+            .state("Orla-1")
+            .map(|s| s.records.len()),
+        Some(2)
+    );
 
     // A clean file exits 0.
     let clean = tmp.path().join("clean.jsonl");
     write_lines(&clean, &[scan_line("Orla-9", 0.9, "high", "qso")]);
     let (code, out, _) = run(
-        &["--from", clean.to_str().expect("utf-8"), "--accept-grade", "poor"],
+        &[
+            "--from",
+            clean.to_str().expect("utf-8"),
+            "--accept-grade",
+            "poor",
+        ],
         &log,
     );
     assert_eq!((code, out.as_str()), (Some(0), "saved Orla-9\n"));

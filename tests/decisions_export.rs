@@ -5,7 +5,9 @@ mod decisions_common;
 
 use decisions_common::zsift;
 use proptest::prelude::*;
-use zsift::decisions::{log_file_name, replay, Log, Record, Solution, Source, LOG_EXTENSION, MARKER};
+use zsift::decisions::{
+    LOG_EXTENSION, Log, MARKER, Record, Solution, Source, log_file_name, replay,
+};
 
 fn hostile_names() -> Vec<String> {
     vec![
@@ -63,7 +65,8 @@ fn hostile_target_names_stay_in_the_log_folder_and_replay_exactly() {
             z: Some(0.01 * i as f64),
             ..Solution::default()
         };
-        log.append(&Record::accept(n, "ana", sol, Source::Hand)).expect("append");
+        log.append(&Record::accept(n, "ana", sol, Source::Hand))
+            .expect("append");
     }
     // Nothing was created anywhere but directly in the log folder.
     for p in files_everywhere(tmp.path()) {
@@ -96,8 +99,10 @@ fn the_csv_export_parses_back_with_every_formula_cell_neutralised() {
             lines: vec!["@x".into()],
             ..Solution::default()
         };
-        log.append(&Record::accept(n, "-ana", sol, Source::Candidate { rank: 1 }).with_note("+note"))
-            .expect("append");
+        log.append(
+            &Record::accept(n, "-ana", sol, Source::Candidate { rank: 1 }).with_note("+note"),
+        )
+        .expect("append");
     }
     let out_file = tmp.path().join("out.csv");
     let out = zsift()
@@ -107,7 +112,12 @@ fn the_csv_export_parses_back_with_every_formula_cell_neutralised() {
         .arg(&out_file)
         .output()
         .expect("run export");
-    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let mut rdr = csv::Reader::from_path(&out_file).expect("csv opens");
     let header = rdr.headers().expect("header").clone();
     assert_eq!(&header[0], "target");
@@ -148,9 +158,15 @@ fn the_jsonl_export_has_one_object_per_target_with_numbers_as_numbers() {
         z_err: Some(1e-4),
         ..Solution::default()
     };
-    log.append(&Record::accept("Orla-1", "ana", sol, Source::Candidate { rank: 2 }))
+    log.append(&Record::accept(
+        "Orla-1",
+        "ana",
+        sol,
+        Source::Candidate { rank: 2 },
+    ))
+    .expect("append");
+    log.append(&Record::reject("Orla-2", "ben"))
         .expect("append");
-    log.append(&Record::reject("Orla-2", "ben")).expect("append");
     let out = zsift()
         .args(["export", "--format", "jsonl", "--log"])
         .arg(tmp.path())
@@ -174,14 +190,20 @@ fn the_tally_counts_queue_targets_never_touched_as_undecided() {
     let log_dir = tmp.path().join("log");
     for (t, a) in [("Orla-1", "accept"), ("Orla-2", "reject")] {
         let mut c = zsift();
-        c.args(["decide", "--log"]).arg(&log_dir).args(["--target", t, "--action", a]);
+        c.args(["decide", "--log"])
+            .arg(&log_dir)
+            .args(["--target", t, "--action", a]);
         if a == "accept" {
             c.args(["--class", "star", "--z", "0.0001"]);
         }
         assert!(c.status().expect("run").success());
     }
     let q = tmp.path().join("night.queue");
-    std::fs::write(&q, "path,target\na.fits,Orla-1\nb.fits,Orla-2\nc.fits,Orla-3\n").expect("write");
+    std::fs::write(
+        &q,
+        "path,target\na.fits,Orla-1\nb.fits,Orla-2\nc.fits,Orla-3\n",
+    )
+    .expect("write");
     let out = zsift()
         .args(["export", "--tally", "--log"])
         .arg(&log_dir)
@@ -189,7 +211,12 @@ fn the_tally_counts_queue_targets_never_touched_as_undecided() {
         .arg(&q)
         .output()
         .expect("run");
-    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let text = String::from_utf8_lossy(&out.stdout);
     assert!(text.contains("targets         3"), "{text}");
     assert!(text.contains("undecided       1"), "{text}");
@@ -202,7 +229,8 @@ fn the_marker_file_is_not_taken_for_a_log() {
     let tmp = tempfile::tempdir().expect("tempdir");
     let log = Log::open(tmp.path()).expect("open");
     assert!(tmp.path().join(MARKER).exists());
-    log.append(&Record::reject("Orla-1", "ana")).expect("append");
+    log.append(&Record::reject("Orla-1", "ana"))
+        .expect("append");
     let r = replay(tmp.path()).expect("replay");
     assert_eq!(r.files, 1);
 }

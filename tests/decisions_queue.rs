@@ -6,7 +6,7 @@ mod decisions_common;
 use decisions_common::{scan_line, write_lines};
 use zsift::decisions::{Log, Record, Solution, Source};
 use zsift::lines::ObjectClass;
-use zsift::queue::{Filter, Order, Queue, QueueError, DEFAULT_LOG_FOLDER};
+use zsift::queue::{DEFAULT_LOG_FOLDER, Filter, Order, Queue, QueueError};
 
 fn targets(q: &Queue) -> Vec<String> {
     q.iter().map(|i| i.target.clone()).collect()
@@ -18,7 +18,14 @@ fn a_folder_is_searched_recursively_for_spectra_in_path_order() {
     let d = tmp.path();
     std::fs::create_dir_all(d.join("n2")).expect("mkdir");
     std::fs::create_dir_all(d.join(DEFAULT_LOG_FOLDER)).expect("mkdir");
-    for f in ["b.fits", "a.txt", "n2/c.FITS", "notes.md", ".hidden.fits", "zsift-log/x.csv"] {
+    for f in [
+        "b.fits",
+        "a.txt",
+        "n2/c.FITS",
+        "notes.md",
+        ".hidden.fits",
+        "zsift-log/x.csv",
+    ] {
         std::fs::write(d.join(f), "x").expect("write");
     }
     let q = Queue::from_paths(&[d.to_path_buf()]).expect("queue");
@@ -41,7 +48,10 @@ fn a_queue_file_gives_targets_priorities_and_notes_relative_to_itself() {
     let mut queue = Queue::from_queue_file(&q).expect("queue");
     assert_eq!(targets(&queue), ["Orla-1", "two", "Orla-3"]);
     assert_eq!(queue.items()[0].path, tmp.path().join("s/one.fits"));
-    assert_eq!(queue.items()[2].path, std::path::PathBuf::from("/abs/three.txt"));
+    assert_eq!(
+        queue.items()[2].path,
+        std::path::PathBuf::from("/abs/three.txt")
+    );
     assert_eq!(queue.items()[1].note.as_deref(), Some("check the red end"));
     queue.order_by(Order::Priority);
     assert_eq!(targets(&queue), ["two", "Orla-1", "Orla-3"]);
@@ -56,7 +66,10 @@ fn a_queue_file_gives_targets_priorities_and_notes_relative_to_itself() {
         other => panic!("expected a line error, got {other:?}"),
     }
     std::fs::write(&q, "file,target\na.fits,x\n").expect("write");
-    assert!(matches!(Queue::from_queue_file(&q), Err(QueueError::NoPathColumn { .. })));
+    assert!(matches!(
+        Queue::from_queue_file(&q),
+        Err(QueueError::NoPathColumn { .. })
+    ));
 }
 
 fn scan_queue(dir: &std::path::Path) -> Queue {
@@ -65,7 +78,8 @@ fn scan_queue(dir: &std::path::Path) -> Queue {
         scan_line("Orla-3", 0.30, "good", "galaxy"),
         scan_line("Orla-1", 2.10, "high", "qso"),
         scan_line("Orla-2", 0.0001, "fair", "star"),
-        r#"{"target":"Orla-4","path":"Orla-4.fits","status":"error","error":"HDU 1: no data"}"#.to_string(),
+        r#"{"target":"Orla-4","path":"Orla-4.fits","status":"error","error":"HDU 1: no data"}"#
+            .to_string(),
         "this line is garbage".to_string(),
     ];
     // Give them distinct S/N and scores.
@@ -86,7 +100,11 @@ fn a_scan_output_becomes_a_queue_with_its_answers_and_bad_lines_named() {
     assert_eq!(targets(&q), ["Orla-3", "Orla-1", "Orla-2", "Orla-4"]);
     assert_eq!(q.problems.len(), 1);
     assert_eq!(q.problems[0].0, 5);
-    let best = q.items()[1].scan.as_ref().and_then(|s| s.best()).expect("best");
+    let best = q.items()[1]
+        .scan
+        .as_ref()
+        .and_then(|s| s.best())
+        .expect("best");
     assert_eq!(best.class, Some(ObjectClass::Qso));
     assert_eq!(best.lines, ["H-alpha"]);
     assert!(!q.items()[3].scan.as_ref().expect("scan").ok);
@@ -120,7 +138,13 @@ fn filters_resume_and_progress_follow_the_decision_log() {
         class: Some(ObjectClass::Galaxy),
         ..Solution::default()
     };
-    log.append(&Record::accept("Orla-1", "ana", galaxy.clone(), Source::Hand)).expect("a");
+    log.append(&Record::accept(
+        "Orla-1",
+        "ana",
+        galaxy.clone(),
+        Source::Hand,
+    ))
+    .expect("a");
     log.append(&Record::reject("Orla-2", "ana")).expect("a");
     let r = log.replay().expect("replay");
 
@@ -130,7 +154,10 @@ fn filters_resume_and_progress_follow_the_decision_log() {
     assert_eq!(q.resume(&r, "ben"), Some(0));
 
     let p = q.progress(&r);
-    assert_eq!((p.total, p.decided, p.accepted, p.rejected, p.undecided), (4, 2, 1, 1, 2));
+    assert_eq!(
+        (p.total, p.decided, p.accepted, p.rejected, p.undecided),
+        (4, 2, 1, 1, 2)
+    );
 
     q.filter(Filter::Undecided, &r);
     assert_eq!(targets(&q), ["Orla-3", "Orla-4"]);
@@ -146,7 +173,8 @@ fn filters_resume_and_progress_follow_the_decision_log() {
     assert_eq!(q.resume(&r, "ana"), None);
 
     log.append(&Record::flag("Orla-3", "ben")).expect("a");
-    log.append(&Record::accept("Orla-3", "ana", galaxy, Source::Hand)).expect("a");
+    log.append(&Record::accept("Orla-3", "ana", galaxy, Source::Hand))
+        .expect("a");
     let r = log.replay().expect("replay");
     q.filter(Filter::Conflict, &r);
     assert_eq!(targets(&q), ["Orla-3"]);

@@ -22,8 +22,13 @@ fn log() -> (tempfile::TempDir, Log) {
 fn an_observer_changing_their_mind_is_not_a_conflict() {
     let (_t, log) = log();
     log.append(&Record::reject("T", "ana")).expect("a");
-    log.append(&Record::accept("T", "ana", sol(0.2, ObjectClass::Galaxy), Source::Hand))
-        .expect("a");
+    log.append(&Record::accept(
+        "T",
+        "ana",
+        sol(0.2, ObjectClass::Galaxy),
+        Source::Hand,
+    ))
+    .expect("a");
     let st = log.target_state("T").expect("state");
     assert_eq!(st.status, Status::Accepted);
     assert_eq!(st.verdicts.len(), 1);
@@ -34,16 +39,36 @@ fn an_observer_changing_their_mind_is_not_a_conflict() {
 fn two_observers_agreeing_within_the_tolerance_agree_and_beyond_it_conflict() {
     let (_t, log) = log();
     // 0.00005 in z at z=0.5 is 10 km/s: the same answer.
-    log.append(&Record::accept("A", "ana", sol(0.50000, ObjectClass::Galaxy), Source::Hand))
-        .expect("a");
-    log.append(&Record::accept("A", "ben", sol(0.50005, ObjectClass::Galaxy), Source::Hand))
-        .expect("a");
+    log.append(&Record::accept(
+        "A",
+        "ana",
+        sol(0.50000, ObjectClass::Galaxy),
+        Source::Hand,
+    ))
+    .expect("a");
+    log.append(&Record::accept(
+        "A",
+        "ben",
+        sol(0.50005, ObjectClass::Galaxy),
+        Source::Hand,
+    ))
+    .expect("a");
     assert_eq!(log.target_state("A").expect("s").status, Status::Accepted);
     // 0.01 in z is 2000 km/s: different answers.
-    log.append(&Record::accept("B", "ana", sol(0.50, ObjectClass::Galaxy), Source::Hand))
-        .expect("a");
-    log.append(&Record::accept("B", "ben", sol(0.51, ObjectClass::Galaxy), Source::Hand))
-        .expect("a");
+    log.append(&Record::accept(
+        "B",
+        "ana",
+        sol(0.50, ObjectClass::Galaxy),
+        Source::Hand,
+    ))
+    .expect("a");
+    log.append(&Record::accept(
+        "B",
+        "ben",
+        sol(0.51, ObjectClass::Galaxy),
+        Source::Hand,
+    ))
+    .expect("a");
     let st = log.target_state("B").expect("s");
     assert_eq!(st.status, Status::Conflict);
     assert!(st.solution.is_none(), "no solution is picked in a conflict");
@@ -52,19 +77,34 @@ fn two_observers_agreeing_within_the_tolerance_agree_and_beyond_it_conflict() {
         Some("ana: accept galaxy z=0.50000; ben: accept galaxy z=0.51000")
     );
     // Same redshift, different class: a conflict too.
-    log.append(&Record::accept("C", "ana", sol(1.9, ObjectClass::Qso), Source::Hand))
-        .expect("a");
-    log.append(&Record::reclassify("C", "ben", sol(1.9, ObjectClass::Galaxy)))
-        .expect("a");
+    log.append(&Record::accept(
+        "C",
+        "ana",
+        sol(1.9, ObjectClass::Qso),
+        Source::Hand,
+    ))
+    .expect("a");
+    log.append(&Record::reclassify(
+        "C",
+        "ben",
+        sol(1.9, ObjectClass::Galaxy),
+    ))
+    .expect("a");
     assert_eq!(log.target_state("C").expect("s").status, Status::Conflict);
 }
 
 #[test]
 fn an_undo_withdraws_one_record_and_resolves_the_conflict_it_caused() {
     let (_t, log) = log();
-    log.append(&Record::accept("T", "ana", sol(0.1, ObjectClass::Star), Source::Hand))
+    log.append(&Record::accept(
+        "T",
+        "ana",
+        sol(0.1, ObjectClass::Star),
+        Source::Hand,
+    ))
+    .expect("a");
+    log.append(&Record::flag("T", "ben").with_note("too faint"))
         .expect("a");
-    log.append(&Record::flag("T", "ben").with_note("too faint")).expect("a");
     let st = log.target_state("T").expect("s");
     assert_eq!(st.status, Status::Conflict);
     let id = st.last_standing_by("ben").expect("ben's record").id.clone();
@@ -94,6 +134,7 @@ fn notes_do_not_decide_and_a_changed_input_file_is_noticed() {
     assert_eq!(fp1.bytes, fp2.bytes);
     assert!(!fp1.same_content(&fp2), "same size, different content");
     assert_eq!(st.input_matches(&fp2), Some(false));
-    log.append(&Record::reject("T", "ana").with_input(fp2)).expect("a");
+    log.append(&Record::reject("T", "ana").with_input(fp2))
+        .expect("a");
     assert!(log.target_state("T").expect("s").inputs_differ);
 }
