@@ -6,7 +6,20 @@
 //! are masked.
 
 use serde::{Deserialize, Serialize};
+use std::io::Read;
 use std::path::{Path, PathBuf};
+
+pub mod assemble;
+pub mod columns;
+pub mod detect;
+pub mod fits;
+pub mod text;
+
+pub use assemble::MIN_PIXELS;
+
+/// Largest file accepted (bytes). Real 1-D spectra are far smaller; the cap
+/// keeps a mistaken input (an image cube, a disk image) from filling memory.
+pub const MAX_FILE_BYTES: u64 = 256 * 1024 * 1024;
 
 /// The medium in which wavelengths were measured.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -241,10 +254,57 @@ impl Spectrum {
 }
 
 /// Read a spectrum from `path`, detecting the format by content.
+///
+/// Files larger than [`MAX_FILE_BYTES`] are refused before reading.
 pub fn read(path: &Path, opts: &ReadOptions) -> Result<Spectrum, SpectrumError> {
-    let _ = opts;
-    Err(SpectrumError::Unsupported {
+    let io = |source| SpectrumError::Io {
         path: path.to_path_buf(),
-        message: "readers not built yet".into(),
-    })
+        source,
+    };
+    let file = std::fs::File::open(path).map_err(io)?;
+    let len = file.metadata().map_err(io)?.len();
+    if len > MAX_FILE_BYTES {
+        return Err(SpectrumError::Unsupported {
+            path: path.to_path_buf(),
+            message: format!(
+                "{len} bytes is larger than the {MAX_FILE_BYTES} bytes accepted for one spectrum"
+            ),
+        });
+    }
+    let mut bytes = Vec::with_capacity(len as usize);
+    file.take(MAX_FILE_BYTES + 1)
+        .read_to_end(&mut bytes)
+        .map_err(io)?;
+    if bytes.len() as u64 > MAX_FILE_BYTES {
+        return Err(SpectrumError::Unsupported {
+            path: path.to_path_buf(),
+            message: format!("larger than the {MAX_FILE_BYTES} bytes accepted for one spectrum"),
+        });
+    }
+    read_bytes(path, &bytes, opts)
+}
+
+/// Read a spectrum from the bytes of a file; `path` is only used to name the
+/// source (in errors, in [`Metadata::source_path`], and as the fallback target
+/// name).
+pub fn read_bytes(
+    path: &Path,
+    bytes: &[u8],
+    opts: &ReadOptions,
+) -> Result<Spectrum, SpectrumError> {
+    if bytes.iter().all(|b| b.is_ascii_whitespace()) {
+        return Err(SpectrumError::Malformed {
+            path: path.to_path_buf(),
+            place: "whole file".into(),
+            message: "the file is empty".into(),
+        });
+    }
+    match detect::detect(bytes) {
+        Ok(detect::Format::Fits) => fits::read_bytes(path, bytes, opts),
+        Ok(detect::Format::Text) => text::read_bytes(path, bytes, opts),
+        Err(message) => Err(SpectrumError::Unsupported {
+            path: path.to_path_buf(),
+            message,
+        }),
+    }
 }
