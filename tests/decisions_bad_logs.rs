@@ -245,3 +245,31 @@ fn a_read_only_log_folder_refuses_writes_clearly_and_still_replays_and_exports()
     assert_eq!(out.status.code(), Some(0));
     assert!(String::from_utf8_lossy(&out.stdout).contains("Orla-22,accepted"));
 }
+
+#[test]
+fn a_scripted_decide_on_a_target_with_a_torn_line_reports_the_repair_and_saves() {
+    let tmp = tempfile::tempdir().expect("tempdir");
+    let log = Log::open(tmp.path()).expect("open");
+    three_records(&log, "Orla-23");
+    append_raw(&log.file_for("Orla-23"), b"{\"schema\":1,\"id\":\"ab");
+    let out = zsift()
+        .args(["decide", "--log"])
+        .arg(tmp.path())
+        .args([
+            "--target",
+            "Orla-23",
+            "--action",
+            "flag",
+            "--observer",
+            "ana",
+        ])
+        .output()
+        .expect("run decide");
+    assert_eq!(out.status.code(), Some(0));
+    assert_eq!(String::from_utf8_lossy(&out.stdout), "saved Orla-23\n");
+    assert!(String::from_utf8_lossy(&out.stderr).contains("unfinished last line"));
+    let r = replay(tmp.path()).expect("replay");
+    assert!(r.problems.is_empty(), "{:?}", r.problems);
+    assert_eq!(r.records, 4);
+    assert_eq!(r.status("Orla-23"), Status::Flagged);
+}
