@@ -172,7 +172,10 @@ pub fn run(args: &Args) -> anyhow::Result<u8> {
         Some(rank) => Source::Candidate { rank },
         None => Source::Hand,
     };
-    let log = open_log(&args.log)?;
+    // Only this target's file is checked (and repaired) here, by the
+    // append itself: a script calling `decide` once per target should not
+    // pay for a scan of the whole folder each time.
+    let log = Log::open_without_scan(&args.log)?;
     let mut record = match action {
         ActionArg::Accept => Record::accept(target, &observer, solution, source),
         ActionArg::Reclassify => {
@@ -345,15 +348,8 @@ fn bulk(args: &Args, from: &std::path::Path, floor: Grade, observer: &str) -> an
             continue;
         };
         let solution = Solution {
-            z: Some(best.z),
-            z_err: best.z_err,
-            class: best.class,
-            subclass: best.subclass.clone(),
-            grade: best.grade,
-            lines: best.lines.clone(),
-            z_bary: best.z_bary,
-            velocity_bary_kms: best.velocity_bary_kms,
             barycentric_correction_kms: e.summary.barycentric_correction_kms,
+            ..Solution::from_summary(best)
         };
         let mut record = Record::accept(
             &e.target,

@@ -78,6 +78,29 @@ impl Log {
     /// [`LogError::ReadOnly`] (use [`super::replay`] to read such a folder),
     /// or an I/O error naming the file while checking the logs.
     pub fn open(dir: impl AsRef<Path>) -> Result<Log, LogError> {
+        let log = Log::open_without_scan(dir)?;
+        for path in log_files(&log.dir)? {
+            let file = open_log_file(&path, false)?;
+            FileExt::lock(&file).map_err(|source| LogError::Lock {
+                path: path.clone(),
+                source,
+            })?;
+            let r = end_on_line_boundary(&file, &path);
+            let _ = FileExt::unlock(&file);
+            if let Some(rep) = r? {
+                log.push_repair(rep);
+            }
+        }
+        Ok(log)
+    }
+
+    /// Like [`Log::open`] but without checking every log file in the folder
+    /// first; each append still checks (and repairs) its own target's file
+    /// before writing, so nothing is ever appended to a torn line.
+    ///
+    /// # Errors
+    /// As [`Log::open`].
+    pub fn open_without_scan(dir: impl AsRef<Path>) -> Result<Log, LogError> {
         let dir = dir.as_ref().to_path_buf();
         if !dir.exists() {
             std::fs::create_dir_all(&dir).map_err(|source| LogError::CreateDir {
@@ -102,23 +125,10 @@ impl Log {
             // Best effort: the marker only explains the folder to people.
             let _ = m.write_all(MARKER_TEXT.as_bytes());
         }
-        let log = Log {
+        Ok(Log {
             dir,
             repairs: Mutex::new(Vec::new()),
-        };
-        for path in log_files(&log.dir)? {
-            let file = open_log_file(&path, false)?;
-            FileExt::lock(&file).map_err(|source| LogError::Lock {
-                path: path.clone(),
-                source,
-            })?;
-            let r = end_on_line_boundary(&file, &path);
-            let _ = FileExt::unlock(&file);
-            if let Some(rep) = r? {
-                log.push_repair(rep);
-            }
-        }
-        Ok(log)
+        })
     }
 
     /// The folder.

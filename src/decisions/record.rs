@@ -92,6 +92,37 @@ pub struct Solution {
     pub barycentric_correction_kms: Option<f64>,
 }
 
+impl Solution {
+    /// The solution a candidate of the identifier proposes (z, error,
+    /// class, subclass, grade and the names of its matched lines).
+    pub fn from_candidate(c: &crate::identify::Candidate) -> Solution {
+        Solution {
+            z: Some(c.z),
+            z_err: Some(c.z_err).filter(|e| e.is_finite()),
+            class: Some(c.class),
+            subclass: c.subclass.clone(),
+            grade: Some(c.grade),
+            lines: c.matched.iter().map(|m| m.line.clone()).collect(),
+            ..Solution::default()
+        }
+    }
+
+    /// The solution a scan answer proposes, with its barycentric fields.
+    pub fn from_summary(c: &crate::queue::CandidateSummary) -> Solution {
+        Solution {
+            z: Some(c.z),
+            z_err: c.z_err,
+            class: c.class,
+            subclass: c.subclass.clone(),
+            grade: c.grade,
+            lines: c.lines.clone(),
+            z_bary: c.z_bary,
+            velocity_bary_kms: c.velocity_bary_kms,
+            barycentric_correction_kms: None,
+        }
+    }
+}
+
 /// Where a solution came from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]

@@ -553,17 +553,26 @@ fn read_shared(path: &Path) -> std::io::Result<Vec<u8>> {
 
 /// Parse one log line into a record, or say why it is not one.
 pub(crate) fn parse_line(raw: &[u8]) -> Result<Record, ProblemKind> {
-    let v: serde_json::Value =
-        serde_json::from_slice(raw).map_err(|e| ProblemKind::Garbage(format!("not JSON: {e}")))?;
-    let obj = v
-        .as_object()
-        .ok_or_else(|| ProblemKind::Garbage("not a JSON object".to_string()))?;
-    let schema = obj
-        .get("schema")
+    // First only the version (serde skips everything else), so a record of
+    // another schema is reported as such rather than as a parse error.
+    #[derive(serde::Deserialize)]
+    struct Version {
+        schema: Option<serde_json::Value>,
+    }
+    let v: Version = serde_json::from_slice(raw).map_err(|e| {
+        if e.classify() == serde_json::error::Category::Data {
+            ProblemKind::Garbage("not a JSON object".to_string())
+        } else {
+            ProblemKind::Garbage(format!("not JSON: {e}"))
+        }
+    })?;
+    let schema = v
+        .schema
+        .as_ref()
         .and_then(|s| s.as_u64())
         .ok_or_else(|| ProblemKind::Garbage("no schema version number".to_string()))?;
     if schema != u64::from(SCHEMA_VERSION) {
         return Err(ProblemKind::UnknownSchema(schema));
     }
-    serde_json::from_value::<Record>(v).map_err(|e| ProblemKind::Garbage(e.to_string()))
+    serde_json::from_slice::<Record>(raw).map_err(|e| ProblemKind::Garbage(e.to_string()))
 }
