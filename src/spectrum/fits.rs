@@ -355,7 +355,7 @@ fn parse_hdus(ctx: &Ctx, bytes: &[u8]) -> Result<(Vec<Hdu>, Vec<String>), Spectr
 
 /// Outcome of trying one HDU.
 enum Try {
-    Found(Spectrum),
+    Found(Box<Spectrum>),
     /// Not a spectrum, for a harmless reason (no data, a table with no flux column...).
     Skip(String),
     /// Looked like the spectrum but is broken.
@@ -378,7 +378,7 @@ pub fn read_bytes(
     for h in &hdus {
         let outcome = try_hdu(&ctx, bytes, h, primary, opts, &warnings);
         match outcome {
-            Try::Found(s) => return Ok(s),
+            Try::Found(s) => return Ok(*s),
             Try::Skip(why) => skipped.push(format!("HDU {}: {why}", h.index)),
             Try::Broken(e) => {
                 if first_broken.is_none() {
@@ -458,7 +458,7 @@ fn try_hdu(
         }
     };
     match assemble::finish(ctx.path, raw, meta, opts, &place) {
-        Ok(s) => Try::Found(s),
+        Ok(s) => Try::Found(Box::new(s)),
         Err(e) => Try::Broken(e),
     }
 }
