@@ -7,6 +7,11 @@
 //! for each spectrum; the batch shell and the review UI both do exactly this,
 //! so their answers are identical.
 
+pub mod continuum;
+pub mod detect;
+pub mod fit;
+pub mod noise;
+
 use crate::lines::{Catalogue, ForegroundKind, LineKind, ObjectClass};
 use crate::spectrum::Spectrum;
 use serde::{Deserialize, Serialize};

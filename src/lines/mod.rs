@@ -3,8 +3,20 @@
 //! target (night-sky emission, telluric absorption bands).
 //!
 //! All wavelengths are vacuum Angstrom.
+//!
+//! - [`builtin()`]: the built-in [`Catalogue`] ([`builtin`] module: the
+//!   tables, each value with its source).
+//! - [`load_file`]: a user line list ([`file`] module: the format), merged
+//!   into a catalogue with [`Catalogue::merge_lines`] or used alone with
+//!   [`Catalogue::replace_lines`].
 
 use serde::{Deserialize, Serialize};
+
+pub mod builtin;
+pub mod file;
+
+pub use builtin::builtin;
+pub use file::{LineFileError, load_file};
 
 /// Whether a line is seen in emission, absorption, or either.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
@@ -77,6 +89,14 @@ pub struct Line {
     pub group: Option<String>,
 }
 
+impl Line {
+    /// The line's wavelength in standard air (IAU, Morton 2000), Angstrom;
+    /// equal to the vacuum wavelength below 2000 A.
+    pub fn wavelength_air(&self) -> f64 {
+        crate::physics::airvac::vacuum_to_air(self.wavelength)
+    }
+}
+
 /// A fixed intensity ratio between two lines of a group.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Ratio {
@@ -138,6 +158,46 @@ impl Catalogue {
         self.lines
             .iter()
             .filter(move |l| l.wavelength * s >= lo && l.wavelength * s <= hi)
+    }
+
+    /// Merge user lines into the catalogue: a user line replaces the built-in
+    /// line of the same name, the others are added; lines stay sorted.
+    pub fn merge_lines(&mut self, user: Vec<Line>) {
+        for l in user {
+            match self.lines.iter_mut().find(|x| x.name == l.name) {
+                Some(x) => *x = l,
+                None => self.lines.push(l),
+            }
+        }
+        self.lines
+            .sort_by(|a, b| a.wavelength.total_cmp(&b.wavelength));
+    }
+
+    /// Replace all target lines by `user` (sorted). Ratios whose lines are no
+    /// longer both present are dropped; the foreground features (sky lines,
+    /// telluric bands) are kept, since they describe the site, not the target.
+    pub fn replace_lines(&mut self, user: Vec<Line>) {
+        self.lines = user;
+        self.lines
+            .sort_by(|a, b| a.wavelength.total_cmp(&b.wavelength));
+        let names: Vec<&str> = self.lines.iter().map(|l| l.name.as_str()).collect();
+        self.ratios.retain(|r| {
+            names.contains(&r.numerator.as_str()) && names.contains(&r.denominator.as_str())
+        });
+    }
+
+    /// The lines of a group, in wavelength order.
+    pub fn group<'a>(&'a self, group: &'a str) -> impl Iterator<Item = &'a Line> + 'a {
+        self.lines
+            .iter()
+            .filter(move |l| l.group.as_deref() == Some(group))
+    }
+
+    /// The fixed ratio with `numerator` over `denominator`, if tabulated.
+    pub fn ratio(&self, numerator: &str, denominator: &str) -> Option<&Ratio> {
+        self.ratios
+            .iter()
+            .find(|r| r.numerator == numerator && r.denominator == denominator)
     }
 
     /// A line by exact name.
