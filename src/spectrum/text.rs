@@ -26,6 +26,10 @@ use std::path::Path;
 /// one is binary data or a broken export, and is refused before splitting.
 pub const MAX_LINE: usize = 64 * 1024;
 
+/// Largest text spectrum accepted (bytes): a million-pixel spectrum is about
+/// 40 MB of text; anything larger is not a 1-D spectrum.
+pub const MAX_TEXT_BYTES: usize = 64 * 1024 * 1024;
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Delim {
     Comma,
@@ -87,6 +91,15 @@ pub fn read_bytes(
     if bytes.iter().all(|b| b.is_ascii_whitespace()) {
         return Err(malformed("whole file".into(), "the file is empty".into()));
     }
+    if bytes.len() > MAX_TEXT_BYTES {
+        return Err(malformed(
+            "whole file".into(),
+            format!(
+                "{} bytes is more than the {MAX_TEXT_BYTES} accepted for a text spectrum",
+                bytes.len()
+            ),
+        ));
+    }
     let text = match std::str::from_utf8(bytes) {
         Ok(t) => t,
         Err(e) => {
@@ -111,7 +124,8 @@ pub fn read_bytes(
     let mut delim: Option<Delim> = None;
     let mut ncol = 0usize;
     let mut first_data_line = 0usize;
-    let mut rows: Vec<Vec<f64>> = Vec::new();
+    // Cells of all data rows, row after row (`ncol` per row).
+    let mut rows: Vec<f64> = Vec::new();
     let mut lines_of_rows: Vec<usize> = Vec::new();
 
     for (idx, raw_line) in text.split('\n').enumerate() {
@@ -186,10 +200,9 @@ pub fn read_bytes(
                 ),
             ));
         }
-        let mut row = Vec::with_capacity(ncol);
         for (j, c) in cells.iter().enumerate() {
             match parse_num(c) {
-                Some(v) => row.push(v),
+                Some(v) => rows.push(v),
                 None => {
                     return Err(malformed(
                         format!("line {lineno}, column {}", j + 1),
@@ -198,7 +211,6 @@ pub fn read_bytes(
                 }
             }
         }
-        rows.push(row);
         lines_of_rows.push(lineno);
     }
 
@@ -316,7 +328,7 @@ pub fn read_bytes(
             "no wavelength or flux column".into(),
         ));
     };
-    let col = |j: usize| rows.iter().map(|r| r[j]).collect::<Vec<f64>>();
+    let col = |j: usize| rows.iter().skip(j).step_by(ncol).copied().collect::<Vec<f64>>();
 
     // Units: the column name wins over a `# unit:` comment.
     let unit_text = wave_unit_from_name.or(unit);
