@@ -47,28 +47,24 @@ fn split(line: &str, d: Delim) -> Vec<&str> {
 
 fn parse_num(cell: &str) -> Option<f64> {
     let c = cell.trim();
-    let c = c.strip_prefix('+').unwrap_or(c);
+    // Fast path: Rust's parser takes decimal and exponent forms, `inf`,
+    // `infinity` and `nan` in any case, with an optional sign.
+    if let Ok(v) = c.parse::<f64>() {
+        return Some(v);
+    }
     match c.to_ascii_lowercase().as_str() {
-        "nan" | "-nan" | "null" | "na" | "" => return Some(f64::NAN),
-        "inf" | "infinity" => return Some(f64::INFINITY),
-        "-inf" | "-infinity" => return Some(f64::NEG_INFINITY),
+        "-nan" | "+nan" | "null" | "na" | "" => return Some(f64::NAN),
         _ => {}
     }
     // Fortran-style D exponents are common in old exports.
-    let fixed;
-    let c = if c.contains(['d', 'D']) {
-        fixed = c.replace(['d', 'D'], "e");
-        fixed.as_str()
-    } else {
-        c
-    };
-    if !c
-        .bytes()
-        .all(|b| b.is_ascii_digit() || matches!(b, b'.' | b'-' | b'+' | b'e' | b'E'))
+    if c.contains(['d', 'D'])
+        && c
+            .bytes()
+            .all(|b| b.is_ascii_digit() || matches!(b, b'.' | b'-' | b'+' | b'd' | b'D'))
     {
-        return None;
+        return c.replace(['d', 'D'], "e").parse::<f64>().ok();
     }
-    c.parse::<f64>().ok()
+    None
 }
 
 /// True when `cell` is a number (the empty cell and `nan` excluded, so a blank
