@@ -8,6 +8,8 @@
 //! - [`doppler`]: redshift <-> velocity (relativistic), composition, offsets.
 
 pub mod airvac;
+pub mod bary;
 pub mod constants;
 pub mod doppler;
 pub mod hydrogen;
+pub mod time;
