@@ -31,9 +31,15 @@ fn flux_at(i: usize, seed: usize) -> f64 {
 
 fn write_csv(path: &Path, seed: usize) {
     let mut s = String::with_capacity(PIXELS * 24);
-    s.push_str(&format!("# object: bench-{seed}\n# medium: air\nwavelength,flux,error\n"));
+    s.push_str(&format!(
+        "# object: bench-{seed}\n# medium: air\nwavelength,flux,error\n"
+    ));
     for i in 0..PIXELS {
-        s.push_str(&format!("{:.3},{:.5},0.1\n", 3600.0 + 1.5 * i as f64, flux_at(i, seed)));
+        s.push_str(&format!(
+            "{:.3},{:.5},0.1\n",
+            3600.0 + 1.5 * i as f64,
+            flux_at(i, seed)
+        ));
     }
     std::fs::write(path, s).expect("write csv");
 }
@@ -86,16 +92,28 @@ fn trivial(s: &Spectrum) -> Analysis {
 fn time(inputs: &[PathBuf], a: &dyn scan::Analyse, jobs: usize) -> (f64, usize) {
     let mut w = Writer::new(Format::Jsonl, Box::new(std::io::sink())).expect("writer");
     let t = Instant::now();
-    let s = scan::run(inputs, a, &ReadOptions::default(), jobs, |r| w.write(r), &|_| {})
-        .expect("scan");
+    let s = scan::run(
+        inputs,
+        a,
+        &ReadOptions::default(),
+        jobs,
+        |r| w.write(r),
+        &|_| {},
+    )
+    .expect("scan");
     (inputs.len() as f64 / t.elapsed().as_secs_f64(), s.rejected)
 }
 
 fn main() {
-    let args: Vec<String> = std::env::args().skip(1).filter(|a| !a.starts_with('-')).collect();
+    let args: Vec<String> = std::env::args()
+        .skip(1)
+        .filter(|a| !a.starts_with('-'))
+        .collect();
     let n: usize = args.first().and_then(|a| a.parse().ok()).unwrap_or(10_000);
     let jobs: usize = args.get(1).and_then(|a| a.parse().ok()).unwrap_or_else(|| {
-        std::thread::available_parallelism().map(|n| n.get()).unwrap_or(1)
+        std::thread::available_parallelism()
+            .map(|n| n.get())
+            .unwrap_or(1)
     });
     let dir = std::env::temp_dir().join(format!("zsift-scan-bench-{}", std::process::id()));
     std::fs::create_dir_all(&dir).expect("mkdir");

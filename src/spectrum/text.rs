@@ -58,8 +58,7 @@ fn parse_num(cell: &str) -> Option<f64> {
     }
     // Fortran-style D exponents are common in old exports.
     if c.contains(['d', 'D'])
-        && c
-            .bytes()
+        && c.bytes()
             .all(|b| b.is_ascii_digit() || matches!(b, b'.' | b'-' | b'+' | b'd' | b'D'))
     {
         return c.replace(['d', 'D'], "e").parse::<f64>().ok();
@@ -116,6 +115,8 @@ pub fn read_bytes(
     let mut medium: Option<Medium> = None;
     let mut unit: Option<String> = None;
     let mut last_comment: Option<&str> = None;
+    // Units declared per column in an ECSV-style YAML header.
+    let mut column_units: Vec<(String, String)> = Vec::new();
     let mut header: Option<(usize, Vec<String>)> = None;
     let mut delim: Option<Delim> = None;
     let mut ncol = 0usize;
@@ -149,7 +150,11 @@ pub fn read_bytes(
         if let Some(c) = t.strip_prefix('#') {
             if rows.is_empty() && header.is_none() {
                 let c = c.trim();
-                if let Some((k, v)) = split_key_value(c) {
+                if let Some((name, u)) = ecsv_column_unit(c) {
+                    column_units.push((name, u));
+                } else if let Some(m) = medium_in_words(c) {
+                    medium.get_or_insert(m);
+                } else if let Some((k, v)) = split_key_value(c) {
                     apply_meta(&k, v, &mut meta, &mut medium, &mut unit, lineno)?;
                 } else {
                     last_comment = Some(c);
@@ -259,6 +264,12 @@ pub fn read_bytes(
         Some(names) => {
             for (j, n) in names.iter().enumerate() {
                 let (base, u) = columns::split_unit(n);
+                let u = u.or_else(|| {
+                    column_units
+                        .iter()
+                        .find(|(c, _)| c.eq_ignore_ascii_case(n.trim()))
+                        .map(|(_, u)| u.clone())
+                });
                 match columns::role_of(&base) {
                     Some(r @ (Role::Wave | Role::WaveAir | Role::WaveVacuum | Role::LogWave))
                         if wave_col.is_none() =>
@@ -324,7 +335,13 @@ pub fn read_bytes(
             "no wavelength or flux column".into(),
         ));
     };
-    let col = |j: usize| rows.iter().skip(j).step_by(ncol).copied().collect::<Vec<f64>>();
+    let col = |j: usize| {
+        rows.iter()
+            .skip(j)
+            .step_by(ncol)
+            .copied()
+            .collect::<Vec<f64>>()
+    };
 
     // Units: the column name wins over a `# unit:` comment.
     let unit_text = wave_unit_from_name.or(unit);
@@ -434,6 +451,48 @@ pub(crate) fn guess_unit(wave: &[f64], warnings: &mut Vec<String>) -> f64 {
         "no wavelength unit given; values up to {mid} taken as {name}"
     ));
     factor
+}
+
+/// `- {name: wavelength, unit: nm, datatype: float64}` (an ECSV column
+/// description) -> (`wavelength`, `nm`).
+fn ecsv_column_unit(c: &str) -> Option<(String, String)> {
+    let body = c
+        .strip_prefix('-')?
+        .trim()
+        .strip_prefix('{')?
+        .strip_suffix('}')?;
+    let mut name = None;
+    let mut unit = None;
+    for part in body.split(',') {
+        if let Some((k, v)) = part.split_once(':') {
+            let v = v.trim().trim_matches(['"', '\'']).to_string();
+            match k.trim() {
+                "name" => name = Some(v),
+                "unit" => unit = Some(v),
+                _ => {}
+            }
+        }
+    }
+    Some((name?, unit?))
+}
+
+/// A free-text comment that states the medium: "air wavelengths",
+/// "wavelengths in vacuum", "vacuum wavelength scale".
+fn medium_in_words(c: &str) -> Option<Medium> {
+    let l = c.to_ascii_lowercase();
+    if l.contains(':') || l.contains('=') {
+        return None;
+    }
+    let said = |m: &str| {
+        l.contains(&format!("{m} wavelength"))
+            || l.contains(&format!("wavelengths in {m}"))
+            || l.contains(&format!("wavelength in {m}"))
+    };
+    match (said("air"), said("vacuum")) {
+        (true, false) => Some(Medium::Air),
+        (false, true) => Some(Medium::Vacuum),
+        _ => None,
+    }
 }
 
 fn split_key_value(c: &str) -> Option<(String, &str)> {
