@@ -88,3 +88,34 @@ fn shard_outputs_written_by_the_command_merge_back_to_the_whole_run() {
     assert_eq!(merged.status.code(), Some(0));
     assert_eq!(merged.stdout, whole.stdout);
 }
+
+#[test]
+fn the_csv_form_writes_a_header_and_one_row_per_input_to_the_out_file() {
+    let dir = tempfile::tempdir().expect("tmp");
+    let corpus = dir.path().join("c");
+    std::fs::create_dir(&corpus).expect("mkdir");
+    let broken = common::broken_corpus(&corpus);
+    let out_path = dir.path().join("out.csv");
+    let out = zsift()
+        .args(["scan", "--format", "csv", "--jobs", "1", "--out"])
+        .arg(&out_path)
+        .arg(&corpus)
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(3));
+    assert!(out.stdout.is_empty(), "nothing on stdout with --out");
+    let mut r = csv::Reader::from_path(&out_path).expect("csv");
+    let header: Vec<String> = r
+        .headers()
+        .expect("header")
+        .iter()
+        .map(String::from)
+        .collect();
+    assert_eq!(header, zsift::scan::CSV_HEADER);
+    let rows: Vec<csv::StringRecord> = r.records().map(|x| x.expect("row")).collect();
+    assert_eq!(rows.len(), broken.len());
+    assert!(
+        rows.iter()
+            .all(|row| &row[2] == "error" && !row[20].is_empty())
+    );
+}
