@@ -16,6 +16,17 @@ use crate::lines::{Catalogue, ForegroundKind, LineKind, ObjectClass};
 use crate::spectrum::Spectrum;
 use serde::{Deserialize, Serialize};
 
+pub mod classify;
+mod grid;
+mod redshift;
+pub mod score;
+mod xcorr;
+
+use grid::LogGrid;
+use redshift::Native;
+use score::Scored;
+use xcorr::{Comb, Correlator, Hypothesis};
+
 /// Tunable settings of the identifier. `Default` is what `scan` and the
 /// review use unless told otherwise.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -208,17 +219,120 @@ pub struct Analysis {
     pub warnings: Vec<String>,
 }
 
-/// The built identifier: catalogue index, settings and precomputed plans.
+
+/// The built identifier: catalogue, settings, the line combs of each
+/// hypothesis, and the FFT plans and template transforms of the
+/// cross-correlation. Build once, share read-only (it is `Send + Sync`),
+/// call [`Identifier::analyse`] per spectrum.
 #[derive(Debug, Clone)]
 pub struct Identifier {
     catalogue: Catalogue,
     settings: Settings,
+    combs: Vec<Comb>,
+    correlator: Correlator,
+}
+
+/// Relativistic velocity (km/s) of redshift `z`.
+fn velocity_of(z: f64) -> f64 {
+    let a = (1.0 + z) * (1.0 + z);
+    crate::physics::constants::C_KM_S * (a - 1.0) / (a + 1.0)
+}
+
+/// Robust per-pixel sigma: the file's where present, else the median
+/// absolute deviation of first differences / (sqrt(2) x 0.6745) over a
+/// running block of pixels.
+fn sigma_of(spectrum: &Spectrum) -> (Vec<f64>, Noise) {
+    let n = spectrum.len();
+    let flux = &spectrum.flux;
+    let good = |i: usize| spectrum.mask[i] && flux[i].is_finite();
+    let block = 101usize;
+    let mut robust = vec![f64::NAN; n];
+    let mut d = Vec::with_capacity(block);
+    let mut c = 0;
+    while c < n {
+        let hi = (c + block).min(n);
+        d.clear();
+        for i in c.max(1)..hi {
+            if good(i) && good(i - 1) {
+                d.push((flux[i] - flux[i - 1]).abs());
+            }
+        }
+        let v = if d.len() >= 5 {
+            let m = d.len() / 2;
+            d.select_nth_unstable_by(m, f64::total_cmp);
+            d[m] / (std::f64::consts::SQRT_2 * 0.6745)
+        } else {
+            f64::NAN
+        };
+        robust[c..hi].iter_mut().for_each(|x| *x = v);
+        c = hi;
+    }
+    let fill = {
+        let mut v: Vec<f64> = robust.iter().copied().filter(|x| x.is_finite() && *x > 0.0).collect();
+        if v.is_empty() {
+            1.0
+        } else {
+            let m = v.len() / 2;
+            v.select_nth_unstable_by(m, f64::total_cmp);
+            v[m]
+        }
+    };
+    for x in robust.iter_mut() {
+        if !(x.is_finite() && *x > 0.0) {
+            *x = fill;
+        }
+    }
+    let (sigma, estimated, ratio) = match &spectrum.sigma {
+        Some(s) => {
+            let mut r: Vec<f64> = (0..n)
+                .filter(|&i| good(i) && s[i].is_finite() && s[i] > 0.0)
+                .map(|i| robust[i] / s[i])
+                .collect();
+            let ratio = if r.is_empty() {
+                None
+            } else {
+                let m = r.len() / 2;
+                r.select_nth_unstable_by(m, f64::total_cmp);
+                Some(r[m])
+            };
+            (s.clone(), false, ratio)
+        }
+        None => (robust, true, None),
+    };
+    let mut snr: Vec<f64> = (0..n)
+        .filter(|&i| good(i) && sigma[i] > 0.0)
+        .map(|i| flux[i] / sigma[i])
+        .collect();
+    let median_snr = if snr.is_empty() {
+        0.0
+    } else {
+        let m = snr.len() / 2;
+        snr.select_nth_unstable_by(m, f64::total_cmp);
+        snr[m]
+    };
+    (
+        sigma,
+        Noise {
+            median_snr,
+            error_ratio: ratio,
+            estimated,
+        },
+    )
+}
+
+/// Work shared by `analyse` and `candidate_at`: native pixels and the grid.
+struct Prepared<'a> {
+    native: Native<'a>,
+    grid: LogGrid,
 }
 
 impl Identifier {
-    /// Build an identifier for `catalogue` with `settings`.
+    /// Build an identifier for `catalogue` with `settings`: the line combs of
+    /// each hypothesis and the FFT plans are made here, once.
     pub fn new(catalogue: &Catalogue, settings: Settings) -> Identifier {
         Identifier {
+            combs: xcorr::build_combs(catalogue),
+            correlator: Correlator::new(catalogue),
             catalogue: catalogue.clone(),
             settings,
         }
@@ -234,17 +348,379 @@ impl Identifier {
         &self.settings
     }
 
-    /// Analyse one spectrum.
+    fn comb(&self, h: Hypothesis) -> &Comb {
+        // build_combs makes one comb per hypothesis, in this order.
+        let i = match h {
+            Hypothesis::Galaxy => 0,
+            Hypothesis::Qso => 1,
+            Hypothesis::Star => 2,
+        };
+        &self.combs[i]
+    }
+
+    fn prepare<'a>(&self, spectrum: &'a Spectrum, sigma: &[f64], maps: bool) -> Option<Prepared<'a>> {
+        let ivar = grid::native_ivar(
+            &spectrum.wave,
+            &spectrum.flux,
+            sigma,
+            &spectrum.mask,
+            &self.catalogue,
+        );
+        if ivar.iter().filter(|w| **w > 0.0).count() < 32 {
+            return None;
+        }
+        let mut g = grid::resample(&spectrum.wave, &spectrum.flux, &ivar)?;
+        if maps {
+            grid::build_maps(&mut g);
+        } else {
+            let v = g.step * crate::physics::constants::C_KM_S;
+            g.cont_narrow = grid::running_continuum(&g.flux, &g.ivar, (6000.0 / v) as usize);
+            g.cont_broad = g.cont_narrow.clone();
+            let clean: Vec<f64> = (0..g.len())
+                .map(|i| {
+                    if ((g.flux[i] - g.cont_narrow[i]) * g.ivar[i].sqrt()).abs() > 3.0 {
+                        g.cont_narrow[i]
+                    } else {
+                        g.flux[i]
+                    }
+                })
+                .collect();
+            g.cont_broad = grid::running_continuum(&clean, &g.ivar, (45_000.0 / v) as usize);
+        }
+        let lnw: Vec<f64> = spectrum.wave.iter().map(|w| w.ln()).collect();
+        let at = |a: &[f64], x: f64| LogGrid::sample(a, g.index_of(x).clamp(0.0, (g.len() - 1) as f64));
+        let cont_narrow = lnw.iter().map(|&x| at(&g.cont_narrow, x)).collect();
+        let cont_broad = lnw.iter().map(|&x| at(&g.cont_broad, x)).collect();
+        Some(Prepared {
+            native: Native {
+                lnw,
+                wave: &spectrum.wave,
+                flux: &spectrum.flux,
+                ivar,
+                cont_narrow,
+                cont_broad,
+            },
+            grid: g,
+        })
+    }
+
+    /// Refine a seed: choose the hypothesis's lines, fit them jointly, score.
+    fn refine(
+        &self,
+        prep: &Prepared,
+        h: Hypothesis,
+        s0: f64,
+        reach: f64,
+        forest_edge: Option<f64>,
+    ) -> Option<Scored> {
+        let g = &prep.grid;
+        let maps = &g.maps;
+        let em_bias = |x: f64| {
+            if maps.em_narrow.is_empty() {
+                return true;
+            }
+            let t = g.index_of(x);
+            LogGrid::sample(&maps.em_narrow, t) >= LogGrid::sample(&maps.ab_narrow, t)
+        };
+        let lines = redshift::lines_for(&self.catalogue, self.comb(h), &prep.native, s0, &em_bias);
+        // Initial narrow width: the best kernel at the strongest narrow line.
+        let mut best: Option<(f64, u8)> = None;
+        if !maps.em_narrow.is_empty() {
+            for l in &lines {
+                let t = g.index_of(l.ln_rest + s0).round();
+                if t < 0.0 || t >= g.len() as f64 {
+                    continue;
+                }
+                let i = t as usize;
+                let (v, w) = if h == Hypothesis::Star {
+                    (maps.ab_narrow[i], maps.ab_narrow_width[i])
+                } else {
+                    (maps.em_narrow[i], maps.em_narrow_width[i])
+                };
+                if best.is_none_or(|b| v > b.0) {
+                    best = Some((v, w));
+                }
+            }
+        }
+        let fwhm = best.map(|(_, w)| grid::NARROW_FWHM_KMS[w as usize]);
+        let fit = redshift::joint_fit(&prep.native, lines, s0, reach, redshift::initial_sigma(fwhm))?;
+        Some(score::score(&self.catalogue, h, &prep.native, &fit, forest_edge))
+    }
+
+    /// Analyse one spectrum: noise, continuum, features, ranked candidates.
     pub fn analyse(&self, spectrum: &Spectrum) -> Analysis {
-        let _ = spectrum;
-        todo!("identifier core")
+        let (sigma, noise) = sigma_of(spectrum);
+        let mut warnings = Vec::new();
+        if let Some(r) = noise.error_ratio
+            && !(0.5..=2.0).contains(&r)
+        {
+            warnings.push(format!(
+                "the file's uncertainties differ from the scatter by a factor {r:.2}"
+            ));
+        }
+        let Some(prep) = self.prepare(spectrum, &sigma, true) else {
+            warnings.push("too few usable pixels to analyse".to_string());
+            return Analysis {
+                noise,
+                continuum: vec![0.0; spectrum.len()],
+                sigma,
+                features: Vec::new(),
+                candidates: vec![nothing_found()],
+                warnings,
+            };
+        };
+        let continuum = prep.native.cont_narrow.clone();
+        let features: Vec<Feature> = Vec::new();
+        let candidates = self.candidates(&prep, &features);
+        Analysis {
+            noise,
+            sigma,
+            continuum,
+            features,
+            candidates,
+            warnings,
+        }
+    }
+
+    fn candidates(&self, prep: &Prepared, features: &[Feature]) -> Vec<Candidate> {
+        let st = &self.settings;
+        let g = &prep.grid;
+        let ev = xcorr::Evidence::new(g);
+        let s_lo = (1.0 + st.z_min.max(-0.5)).ln();
+        let s_hi = (1.0 + st.z_max.max(st.z_min)).ln();
+        let s_star = (st.star_v_max_kms / crate::physics::constants::C_KM_S).max(0.0);
+        let mut seeds: Vec<(Hypothesis, f64, f64)> = Vec::new();
+        let sep = |ds: f64| ((ds / g.step).round() as usize).max(2);
+        for (h, lo, hi, n, d) in [
+            (Hypothesis::Galaxy, s_lo, s_hi, 6, 0.003),
+            (Hypothesis::Qso, s_lo, s_hi, 4, 0.012),
+            (Hypothesis::Star, -s_star, s_star, 1, 0.002),
+        ] {
+            let (origin, sc) = xcorr::comb_scan(g, &ev, self.comb(h), lo, hi);
+            for k in xcorr::peaks(&sc, sep(d), n, 1.0) {
+                seeds.push((h, origin + k as f64 * g.step, 2.0 * g.step));
+            }
+        }
+        for p in self.correlator.correlate(g, s_lo, s_hi, s_star) {
+            if p.r > 3.0 {
+                seeds.push((p.hypothesis, p.s, 3.0 * 2.5e-4));
+            }
+        }
+        for (s, _, _) in redshift::vote(features, &self.catalogue, s_lo, s_hi, g.step.max(2e-4)) {
+            seeds.push((Hypothesis::Galaxy, s, 2.0 * g.step));
+        }
+        let mut scored: Vec<Scored> = seeds
+            .iter()
+            .filter_map(|&(h, s, reach)| self.refine(prep, h, s, reach, None))
+            .collect();
+        // A recognised forest: absorption blueward of that quasar's
+        // Lyman-alpha cannot vote for other hypotheses.
+        let lya = 1215.67f64.ln();
+        if let Some(q) = scored
+            .iter()
+            .filter(|c| c.hypothesis == Hypothesis::Qso && c.forest.is_some_and(|d| d > 0.15))
+            .max_by(|a, b| a.score.total_cmp(&b.score))
+        {
+            let edge = lya + q.s;
+            let redo: Vec<(Hypothesis, f64)> = scored
+                .iter()
+                .filter(|c| c.hypothesis != Hypothesis::Qso)
+                .map(|c| (c.hypothesis, c.s))
+                .collect();
+            scored.retain(|c| c.hypothesis == Hypothesis::Qso);
+            for (h, s) in redo {
+                if let Some(c) = self.refine(prep, h, s, 0.5 * g.step, Some(edge)) {
+                    scored.push(c);
+                }
+            }
+        }
+        self.rank(scored)
+    }
+
+    fn rank(&self, mut scored: Vec<Scored>) -> Vec<Candidate> {
+        let v_star = self.settings.star_v_max_kms;
+        scored.sort_by(|a, b| b.score.total_cmp(&a.score));
+        let mut kept: Vec<(Scored, Candidate)> = Vec::new();
+        for sc in scored {
+            let z = sc.s.exp() - 1.0;
+            let v = velocity_of(z);
+            let cl = classify::classify(&self.catalogue, &sc, v, v_star);
+            let tol = 0.002 * (1.0 + z);
+            if kept
+                .iter()
+                .any(|(_, c)| (c.z - z).abs() < tol && c.class == cl.class)
+            {
+                continue;
+            }
+            let cand = self.to_candidate(&sc, cl, z, v);
+            kept.push((sc, cand));
+            if kept.len() >= self.settings.max_candidates.max(1) {
+                break;
+            }
+        }
+        if kept.is_empty() {
+            return vec![nothing_found()];
+        }
+        // Grades need the margin over the next distinct solution.
+        let scores: Vec<(f64, f64)> = kept.iter().map(|(s, c)| (s.score, c.z)).collect();
+        let mut out = Vec::new();
+        for (rank, (sc, mut cand)) in kept.into_iter().enumerate() {
+            let next = scores
+                .iter()
+                .filter(|(_, z)| (z - cand.z).abs() > 0.002 * (1.0 + cand.z))
+                .map(|(s, _)| *s)
+                .filter(|s| *s <= sc.score)
+                .fold(0.0f64, f64::max);
+            let (grade, unknown) = grade_of(&sc, next);
+            cand.grade = grade;
+            if unknown {
+                cand.class = ObjectClass::Unknown;
+                cand.subclass = None;
+            }
+            cand.rank = rank + 1;
+            out.push(cand);
+        }
+        out
+    }
+
+    fn to_candidate(&self, sc: &Scored, cl: classify::Classified, z: f64, v: f64) -> Candidate {
+        let mut matched: Vec<Match> = sc
+            .lines
+            .iter()
+            .filter(|m| m.snr.abs() >= 2.0 || self.catalogue.lines[m.line].strength >= 0.7)
+            .filter(|m| m.npix >= 2)
+            .map(|m| {
+                let l = &self.catalogue.lines[m.line];
+                Match {
+                    line: l.name.clone(),
+                    rest_wavelength: l.wavelength,
+                    observed_wavelength: m.observed,
+                    offset_kms: m.offset_kms,
+                    feature: None,
+                    kind: if m.snr >= 0.0 {
+                        LineKind::Emission
+                    } else {
+                        LineKind::Absorption
+                    },
+                    snr: m.snr.abs(),
+                    fwhm_kms: m.fwhm_kms,
+                    ew: m.ew,
+                }
+            })
+            .collect();
+        matched.sort_by(|a, b| b.snr.total_cmp(&a.snr));
+        let mut derived = cl.derived;
+        if let Some(d) = sc.forest {
+            derived.push(("forest_depth".to_string(), d));
+        }
+        Candidate {
+            rank: 0,
+            z,
+            z_err: sc.s_err * (1.0 + z),
+            velocity_kms: v,
+            class: cl.class,
+            subclass: cl.subclass,
+            score: sc.score,
+            grade: Grade::Poor,
+            reason: reason_of(sc, &matched),
+            matched,
+            derived,
+        }
     }
 
     /// Re-measure a candidate at a redshift the person chose (nudged or typed):
     /// matched and expected lines at `z`, score, grade and class, using the
-    /// features already found in `analysis`.
+    /// noise already found in `analysis`. z is held where the person put it;
+    /// its error is the curvature of the line fit there.
     pub fn candidate_at(&self, spectrum: &Spectrum, analysis: &Analysis, z: f64) -> Candidate {
-        let _ = (spectrum, analysis, z);
-        todo!("identifier core")
+        let sigma = if analysis.sigma.len() == spectrum.len() {
+            analysis.sigma.clone()
+        } else {
+            sigma_of(spectrum).0
+        };
+        let Some(prep) = self.prepare(spectrum, &sigma, false) else {
+            return nothing_found();
+        };
+        let s = (1.0 + z).ln();
+        let v = velocity_of(z);
+        let mut hyps = vec![Hypothesis::Galaxy, Hypothesis::Qso];
+        if v.abs() <= self.settings.star_v_max_kms {
+            hyps.push(Hypothesis::Star);
+        }
+        let best = hyps
+            .into_iter()
+            .filter_map(|h| self.refine(&prep, h, s, 0.0, None))
+            .max_by(|a, b| a.score.total_cmp(&b.score));
+        let Some(sc) = best else {
+            return nothing_found();
+        };
+        let cl = classify::classify(&self.catalogue, &sc, v, self.settings.star_v_max_kms);
+        let mut cand = self.to_candidate(&sc, cl, z, v);
+        let (grade, unknown) = grade_of(&sc, 0.0);
+        cand.grade = grade;
+        if unknown {
+            cand.class = ObjectClass::Unknown;
+            cand.subclass = None;
+        }
+        cand.rank = 1;
+        cand
     }
+}
+
+/// The candidate reported when nothing usable was found.
+fn nothing_found() -> Candidate {
+    Candidate {
+        rank: 1,
+        z: 0.0,
+        z_err: 0.0,
+        velocity_kms: 0.0,
+        class: ObjectClass::Unknown,
+        subclass: None,
+        score: 0.0,
+        grade: Grade::Poor,
+        reason: "no usable features".to_string(),
+        matched: Vec::new(),
+        derived: Vec::new(),
+    }
+}
+
+/// Evidence needed before a class is claimed.
+const MIN_SCORE: f64 = 30.0;
+
+/// Grade from the score, the number of agreeing lines and the margin over
+/// the next distinct solution; the flag says the evidence is too weak to
+/// claim a class.
+fn grade_of(sc: &Scored, next: f64) -> (Grade, bool) {
+    let margin = sc.score - next;
+    let weak = sc.score < MIN_SCORE || (sc.n_sig < 2 && sc.max_snr < 6.0);
+    let grade = if weak {
+        Grade::Poor
+    } else if sc.n_sig >= 4 && sc.score >= 150.0 && margin >= 0.3 * sc.score && sc.penalty < 10.0
+    {
+        Grade::High
+    } else if sc.n_sig >= 2 && sc.score >= 60.0 && margin >= 0.15 * sc.score {
+        Grade::Good
+    } else {
+        Grade::Fair
+    };
+    (grade, weak)
+}
+
+fn reason_of(sc: &Scored, matched: &[Match]) -> String {
+    let strong: Vec<String> = matched
+        .iter()
+        .filter(|m| m.snr >= 4.0)
+        .take(4)
+        .map(|m| format!("{} S/N {:.0}", m.line, m.snr))
+        .collect();
+    let mut r = match strong.len() {
+        0 => "no line above S/N 4".to_string(),
+        1 => format!("one line: {}", strong[0]),
+        n => format!("{} lines agree: {}", sc.n_sig.max(n), strong.join(", ")),
+    };
+    for n in sc.notes.iter().take(2) {
+        r.push_str("; ");
+        r.push_str(n);
+    }
+    r
 }

@@ -1,2 +1,24 @@
-//! The interactive review shell (ratatui + crossterm): app state, key
-//! handling, widgets, themes and the background prefetch worker.
+//! The interactive review shell (ratatui + crossterm).
+//!
+//! - [`app`]: the state ([`app::App`]), its messages ([`app::Msg`]) and the
+//!   one `update` function, which returns [`app::Effect`]s instead of doing
+//!   I/O itself.
+//! - [`keys`]: the key map (the help overlay and footer are generated from it).
+//! - [`widgets`]: one file per part of the screen; each draws from `&App`.
+//! - [`theme`]: roles -> styles, loaded from `themes/*.toml`.
+//! - [`config`]: the user's config file (observer, log folder, theme, keys).
+//! - [`worker`]: the background thread that reads and analyses targets ahead
+//!   of the person (latest request wins).
+//! - [`journal`]: where decisions go (the decision log) and where they come
+//!   from at start.
+//! - [`run`]: the terminal runtime: raw mode, event loop, signals, panic hook.
+
+pub mod app;
+pub mod config;
+pub mod decision_log;
+pub mod journal;
+pub mod keys;
+pub mod run;
+pub mod theme;
+pub mod widgets;
+pub mod worker;

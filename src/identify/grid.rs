@@ -1,0 +1,475 @@
+//! The spectrum on a uniform log-wavelength grid, where a redshift is a shift:
+//! resampling with inverse-variance bookkeeping, a two-scale robust continuum
+//! (one window for narrow lines, a wide one that keeps broad quasar lines), and
+//! matched-filter S/N maps for emission and absorption at several widths.
+//!
+//! Everything here is private to the identifier; the public per-pixel
+//! products (sigma, continuum, features) come from the lower layers.
+
+use crate::lines::{Catalogue, ForegroundKind};
+use crate::physics::constants::C_KM_S;
+
+/// Narrow-line kernel FWHMs, km/s: from instrument-limited lines at R ~ 5000
+/// up to unresolved lines at R ~ 200 and stellar Balmer cores.
+pub(crate) const NARROW_FWHM_KMS: [f64; 4] = [100.0, 250.0, 600.0, 1400.0];
+/// Broad-line kernel FWHMs, km/s (quasar broad-line region).
+pub(crate) const BROAD_FWHM_KMS: [f64; 3] = [2500.0, 5000.0, 9000.0];
+/// Continuum window for narrow lines, km/s.
+const NARROW_WINDOW_KMS: f64 = 6000.0;
+/// Continuum window for broad lines, km/s (broad lines need 10,000+ km/s).
+const BROAD_WINDOW_KMS: f64 = 45_000.0;
+/// Smallest and largest grid steps in ln(lambda).
+const STEP_MIN: f64 = 0.7e-4;
+const STEP_MAX: f64 = 3.5e-4;
+/// Largest number of grid pixels.
+const MAX_GRID: usize = 20_000;
+
+/// Matched-filter maps on the log grid.
+#[derive(Debug, Clone, Default)]
+pub(crate) struct Maps {
+    /// Best emission S/N over the narrow kernels (clamped at 0 below).
+    pub em_narrow: Vec<f64>,
+    /// Best absorption S/N (positive number) over the narrow kernels.
+    pub ab_narrow: Vec<f64>,
+    /// Best emission S/N over the broad kernels, narrow features removed.
+    pub em_broad: Vec<f64>,
+    /// Best absorption S/N over the broad kernels.
+    pub ab_broad: Vec<f64>,
+    /// Index into [`NARROW_FWHM_KMS`] of the best emission kernel.
+    pub em_narrow_width: Vec<u8>,
+    /// Index into [`NARROW_FWHM_KMS`] of the best absorption kernel.
+    pub ab_narrow_width: Vec<u8>,
+    /// Index into [`BROAD_FWHM_KMS`] of the best broad emission kernel.
+    pub em_broad_width: Vec<u8>,
+}
+
+/// A spectrum resampled on a uniform ln(lambda) grid.
+#[derive(Debug, Clone)]
+pub(crate) struct LogGrid {
+    /// ln(lambda) of pixel 0.
+    pub x0: f64,
+    /// Step in ln(lambda) (= velocity step / c).
+    pub step: f64,
+    /// Flux.
+    pub flux: Vec<f64>,
+    /// Inverse variance (0 = no information).
+    pub ivar: Vec<f64>,
+    /// Continuum following everything but narrow features.
+    pub cont_narrow: Vec<f64>,
+    /// Continuum that keeps broad lines out.
+    pub cont_broad: Vec<f64>,
+    /// Matched-filter maps.
+    pub maps: Maps,
+}
+
+impl LogGrid {
+    /// Number of pixels.
+    pub fn len(&self) -> usize {
+        self.flux.len()
+    }
+
+    /// Fractional grid index of ln(lambda) `x`.
+    pub fn index_of(&self, x: f64) -> f64 {
+        (x - self.x0) / self.step
+    }
+
+    /// Linear interpolation of `a` at fractional index `t` (0 outside).
+    pub fn sample(a: &[f64], t: f64) -> f64 {
+        if !(t >= 0.0) || t > (a.len() - 1) as f64 {
+            return 0.0;
+        }
+        let i = t.floor() as usize;
+        if i + 1 >= a.len() {
+            return a[a.len() - 1];
+        }
+        let f = t - i as f64;
+        a[i] * (1.0 - f) + a[i + 1] * f
+    }
+
+    /// ln(lambda) range covered by usable pixels.
+    pub fn good_range(&self) -> Option<(f64, f64)> {
+        let first = self.ivar.iter().position(|&w| w > 0.0)?;
+        let last = self.ivar.iter().rposition(|&w| w > 0.0)?;
+        Some((
+            self.x0 + first as f64 * self.step,
+            self.x0 + last as f64 * self.step,
+        ))
+    }
+}
+
+/// Median of the positive native ln-steps.
+fn native_step(wave: &[f64]) -> f64 {
+    let mut d: Vec<f64> = wave
+        .windows(2)
+        .map(|w| (w[1] / w[0]).ln())
+        .filter(|v| *v > 0.0 && v.is_finite())
+        .collect();
+    if d.is_empty() {
+        return STEP_MIN;
+    }
+    let m = d.len() / 2;
+    d.select_nth_unstable_by(m, f64::total_cmp);
+    d[m]
+}
+
+/// Pixels to ignore: masked, non-positive sigma, single-pixel spikes, and
+/// the neighbourhood of night-sky lines. Returns the native inverse variance.
+pub(crate) fn native_ivar(
+    wave: &[f64],
+    flux: &[f64],
+    sigma: &[f64],
+    mask: &[bool],
+    catalogue: &Catalogue,
+) -> Vec<f64> {
+    let n = wave.len();
+    let mut ivar: Vec<f64> = (0..n)
+        .map(|i| {
+            let s = sigma[i];
+            if mask[i] && s.is_finite() && s > 0.0 && flux[i].is_finite() {
+                1.0 / (s * s)
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    // Cosmic rays: one pixel far above both neighbours, which are not raised
+    // with it. A real line is at least ~2 pixels wide, so its neighbours
+    // carry at least a third of its peak.
+    for i in 1..n.saturating_sub(1) {
+        if ivar[i] == 0.0 {
+            continue;
+        }
+        let base = 0.5 * (flux[i - 1] + flux[i + 1]);
+        let up = flux[i] - base;
+        let s = sigma[i];
+        if up > 6.0 * s {
+            let l = flux[i - 1] - flux[i.saturating_sub(2)].min(flux[i - 1]);
+            let r = flux[i + 1] - flux[(i + 2).min(n - 1)].min(flux[i + 1]);
+            if l < 0.25 * up && r < 0.25 * up {
+                ivar[i] = 0.0;
+            }
+        }
+    }
+    // Night-sky lines: residuals of sky subtraction sit at fixed observed
+    // wavelengths and must never vote; give those pixels no weight.
+    if n >= 2 {
+        let pad_of = |lam: f64| -> f64 {
+            let j = wave.partition_point(|&w| w < lam).clamp(1, n - 1);
+            2.5 * (wave[j] - wave[j - 1])
+        };
+        for f in catalogue
+            .foreground
+            .iter()
+            .filter(|f| f.kind == ForegroundKind::Sky && f.strength >= 0.2)
+        {
+            let pad = pad_of(f.lo).max(1.5);
+            let lo = f.lo - pad;
+            let hi = f.hi + pad;
+            if hi < wave[0] || lo > wave[n - 1] {
+                continue;
+            }
+            let a = wave.partition_point(|&w| w < lo);
+            let b = wave.partition_point(|&w| w <= hi);
+            for v in &mut ivar[a..b] {
+                *v = 0.0;
+            }
+        }
+    }
+    ivar
+}
+
+/// Resample native pixels onto a log grid (overlap-weighted; the information
+/// of each native pixel is shared among the grid bins it overlaps).
+pub(crate) fn resample(wave: &[f64], flux: &[f64], ivar: &[f64]) -> Option<LogGrid> {
+    let n = wave.len();
+    if n < 16 || wave[0] <= 0.0 {
+        return None;
+    }
+    let span = (wave[n - 1] / wave[0]).ln();
+    let mut step = native_step(wave).clamp(STEP_MIN, STEP_MAX);
+    if span / step > MAX_GRID as f64 {
+        step = span / MAX_GRID as f64;
+    }
+    // Native pixel edges in ln(lambda).
+    let lw: Vec<f64> = wave.iter().map(|w| w.ln()).collect();
+    let mut edges = Vec::with_capacity(n + 1);
+    edges.push(lw[0] - 0.5 * (lw[1] - lw[0]));
+    for i in 0..n - 1 {
+        edges.push(0.5 * (lw[i] + lw[i + 1]));
+    }
+    edges.push(lw[n - 1] + 0.5 * (lw[n - 1] - lw[n - 2]));
+    let x0 = edges[0] + 0.5 * step;
+    let m = (((edges[n] - edges[0]) / step).floor() as usize).max(1);
+    let mut num = vec![0.0; m];
+    let mut wsum = vec![0.0; m];
+    let mut info = vec![0.0; m];
+    for i in 0..n {
+        let (a, b) = (edges[i], edges[i + 1]);
+        let width = b - a;
+        if width <= 0.0 || ivar[i] <= 0.0 {
+            continue;
+        }
+        let ja = (((a - edges[0]) / step).floor().max(0.0)) as usize;
+        let jb = ((((b - edges[0]) / step).floor()) as usize).min(m - 1);
+        for j in ja..=jb {
+            let lo = edges[0] + j as f64 * step;
+            let hi = lo + step;
+            let o = (b.min(hi) - a.max(lo)).max(0.0);
+            if o <= 0.0 {
+                continue;
+            }
+            let frac = o / width;
+            num[j] += frac * ivar[i] * flux[i];
+            wsum[j] += frac * ivar[i];
+            info[j] += frac * ivar[i];
+        }
+    }
+    let gflux: Vec<f64> = (0..m)
+        .map(|j| if wsum[j] > 0.0 { num[j] / wsum[j] } else { 0.0 })
+        .collect();
+    Some(LogGrid {
+        x0,
+        step,
+        flux: gflux,
+        ivar: info,
+        cont_narrow: Vec::new(),
+        cont_broad: Vec::new(),
+        maps: Maps::default(),
+    })
+}
+
+/// Robust running continuum: medians of good pixels in windows of `win`
+/// pixels on nodes half a window apart, linearly interpolated; then once
+/// more without pixels more than 3 sigma off the first pass. Gaps are filled
+/// from the nearest node.
+pub(crate) fn running_continuum(flux: &[f64], ivar: &[f64], win: usize) -> Vec<f64> {
+    let n = flux.len();
+    let win = win.max(5).min(n.max(5));
+    let half = win / 2;
+    let stride = (win / 2).max(1);
+    let mut keep: Vec<bool> = ivar.iter().map(|&w| w > 0.0).collect();
+    let mut cont = vec![0.0; n];
+    let mut scratch = Vec::with_capacity(win + 1);
+    for pass in 0..2 {
+        let mut nodes: Vec<(f64, f64)> = Vec::new();
+        let mut c = 0usize;
+        loop {
+            let lo = c.saturating_sub(half);
+            let hi = (c + half + 1).min(n);
+            scratch.clear();
+            scratch.extend((lo..hi).filter(|&i| keep[i]).map(|i| flux[i]));
+            if scratch.len() >= 3.max(win / 8) {
+                let k = scratch.len() / 2;
+                scratch.select_nth_unstable_by(k, f64::total_cmp);
+                nodes.push((c as f64, scratch[k]));
+            }
+            if c + 1 >= n {
+                break;
+            }
+            c = (c + stride).min(n - 1);
+        }
+        if nodes.is_empty() {
+            return vec![0.0; n];
+        }
+        let mut k = 0;
+        for (i, out) in cont.iter_mut().enumerate() {
+            let x = i as f64;
+            while k + 1 < nodes.len() && nodes[k + 1].0 <= x {
+                k += 1;
+            }
+            *out = if x <= nodes[0].0 {
+                nodes[0].1
+            } else if k + 1 >= nodes.len() {
+                nodes[nodes.len() - 1].1
+            } else {
+                let (xa, ya) = nodes[k];
+                let (xb, yb) = nodes[k + 1];
+                ya + (yb - ya) * (x - xa) / (xb - xa)
+            };
+        }
+        if pass == 0 {
+            for i in 0..n {
+                keep[i] = ivar[i] > 0.0 && (flux[i] - cont[i]).abs() * ivar[i].sqrt() < 3.0;
+            }
+        }
+    }
+    cont
+}
+
+/// Matched filter: for each pixel the S/N of a Gaussian of `sigma_px` pixels
+/// centred there, `sum(w r g) / sqrt(sum(w g^2))`. Wide kernels run on a
+/// binned grid and are interpolated back.
+fn matched_filter(wr: &[f64], w: &[f64], sigma_px: f64, out: &mut [f64]) {
+    let n = wr.len();
+    let bin = if sigma_px > 4.0 {
+        (sigma_px / 2.5).floor() as usize
+    } else {
+        1
+    };
+    if bin > 1 {
+        let nb = n.div_ceil(bin);
+        let mut bwr = vec![0.0; nb];
+        let mut bw = vec![0.0; nb];
+        for i in 0..n {
+            bwr[i / bin] += wr[i];
+            bw[i / bin] += w[i];
+        }
+        let mut bout = vec![0.0; nb];
+        matched_filter_direct(&bwr, &bw, sigma_px / bin as f64, &mut bout);
+        // Bin b is centred at b*bin + (bin-1)/2.
+        let off = (bin as f64 - 1.0) / 2.0;
+        for (i, o) in out.iter_mut().enumerate() {
+            let t = ((i as f64 - off) / bin as f64).clamp(0.0, (nb - 1) as f64);
+            *o = LogGrid::sample(&bout, t);
+        }
+    } else {
+        matched_filter_direct(wr, w, sigma_px, out);
+    }
+}
+
+fn matched_filter_direct(wr: &[f64], w: &[f64], sigma_px: f64, out: &mut [f64]) {
+    let n = wr.len();
+    let h = (3.0 * sigma_px).ceil() as isize;
+    let g: Vec<f64> = (-h..=h)
+        .map(|j| (-0.5 * (j as f64 / sigma_px).powi(2)).exp())
+        .collect();
+    let g2: Vec<f64> = g.iter().map(|v| v * v).collect();
+    for (i, o) in out.iter_mut().enumerate() {
+        let lo = (i as isize - h).max(0) as usize;
+        let hi = ((i as isize + h) as usize).min(n - 1);
+        let k0 = (lo as isize - (i as isize - h)) as usize;
+        let mut num = 0.0;
+        let mut den = 0.0;
+        for (k, j) in (lo..=hi).enumerate() {
+            num += wr[j] * g[k0 + k];
+            den += w[j] * g2[k0 + k];
+        }
+        *o = if den > 0.0 { num / den.sqrt() } else { 0.0 };
+    }
+}
+
+/// Fill continua and matched-filter maps.
+pub(crate) fn build_maps(grid: &mut LogGrid) {
+    let n = grid.len();
+    let vstep = grid.step * C_KM_S;
+    let win_n = (NARROW_WINDOW_KMS / vstep).round() as usize;
+    let win_b = (BROAD_WINDOW_KMS / vstep).round() as usize;
+    grid.cont_narrow = running_continuum(&grid.flux, &grid.ivar, win_n);
+    // Broad continuum from flux with narrow features replaced by the narrow
+    // continuum, so broad lines are measured without narrow ones on top.
+    let clean: Vec<f64> = (0..n)
+        .map(|i| {
+            let r = (grid.flux[i] - grid.cont_narrow[i]) * grid.ivar[i].sqrt();
+            if r.abs() > 3.0 {
+                grid.cont_narrow[i]
+            } else {
+                grid.flux[i]
+            }
+        })
+        .collect();
+    grid.cont_broad = running_continuum(&clean, &grid.ivar, win_b);
+
+    let w = &grid.ivar;
+    let wr_n: Vec<f64> = (0..n)
+        .map(|i| w[i] * (grid.flux[i] - grid.cont_narrow[i]))
+        .collect();
+    let wr_b: Vec<f64> = (0..n)
+        .map(|i| w[i] * (clean[i] - grid.cont_broad[i]))
+        .collect();
+    let mut maps = Maps {
+        em_narrow: vec![0.0; n],
+        ab_narrow: vec![0.0; n],
+        em_broad: vec![0.0; n],
+        ab_broad: vec![0.0; n],
+        em_narrow_width: vec![0; n],
+        ab_narrow_width: vec![0; n],
+        em_broad_width: vec![0; n],
+    };
+    let mut tmp = vec![0.0; n];
+    let min_sigma = 1.0;
+    // Pixels per sigma of a kernel of FWHM `f` km/s.
+    let spx = |f: f64| (f / 2.354_820_045 / vstep).max(min_sigma);
+    let mut last = 0.0;
+    for (k, &f) in NARROW_FWHM_KMS.iter().enumerate() {
+        let s = spx(f);
+        if k > 0 && s <= last * 1.2 {
+            continue;
+        }
+        last = s;
+        matched_filter(&wr_n, w, s, &mut tmp);
+        for i in 0..n {
+            let v = tmp[i];
+            if v > maps.em_narrow[i] {
+                maps.em_narrow[i] = v;
+                maps.em_narrow_width[i] = k as u8;
+            }
+            if -v > maps.ab_narrow[i] {
+                maps.ab_narrow[i] = -v;
+                maps.ab_narrow_width[i] = k as u8;
+            }
+        }
+    }
+    // The broad maps see the flux with narrow features replaced, minus the
+    // wide continuum.
+    for (k, &f) in BROAD_FWHM_KMS.iter().enumerate() {
+        let s = spx(f);
+        matched_filter(&wr_b, w, s, &mut tmp);
+        for i in 0..n {
+            let v = tmp[i];
+            if v > maps.em_broad[i] {
+                maps.em_broad[i] = v;
+                maps.em_broad_width[i] = k as u8;
+            }
+            if -v > maps.ab_broad[i] {
+                maps.ab_broad[i] = -v;
+            }
+        }
+    }
+    grid.maps = maps;
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn resampling_keeps_a_flat_spectrum_flat_and_its_information() {
+        let wave: Vec<f64> = (0..2000).map(|i| 4000.0 + i as f64).collect();
+        let flux = vec![2.0; 2000];
+        let ivar = vec![4.0; 2000];
+        let g = resample(&wave, &flux, &ivar).unwrap();
+        let inner = &g.flux[5..g.len() - 5];
+        assert!(inner.iter().all(|v| (v - 2.0).abs() < 1e-12));
+        let total: f64 = g.ivar.iter().sum();
+        assert!((total - 8000.0).abs() / 8000.0 < 1e-3, "{total}");
+    }
+
+    #[test]
+    fn matched_filter_recovers_the_snr_of_a_gaussian_line() {
+        // Unit noise, a Gaussian of amplitude 1 and sigma 3 px: the S/N of its
+        // amplitude is sqrt(sum g^2) = (sqrt(pi) * 3)^0.5 (analytic).
+        let n = 401;
+        let w = vec![1.0; n];
+        let wr: Vec<f64> = (0..n)
+            .map(|i| (-0.5 * ((i as f64 - 200.0) / 3.0).powi(2)).exp())
+            .collect();
+        let mut out = vec![0.0; n];
+        matched_filter(&wr, &w, 3.0, &mut out);
+        let expect = (std::f64::consts::PI.sqrt() * 3.0).sqrt();
+        assert!((out[200] - expect).abs() < 0.01 * expect, "{}", out[200]);
+    }
+
+    #[test]
+    fn a_single_hot_pixel_gets_no_weight_but_a_two_pixel_line_keeps_it() {
+        let wave: Vec<f64> = (0..100).map(|i| 5000.0 + i as f64).collect();
+        let mut flux = vec![1.0; 100];
+        flux[30] = 50.0;
+        flux[60] = 20.0;
+        flux[61] = 20.0;
+        let sigma = vec![0.1; 100];
+        let mask = vec![true; 100];
+        let iv = native_ivar(&wave, &flux, &sigma, &mask, &Catalogue::default());
+        assert_eq!(iv[30], 0.0);
+        assert!(iv[60] > 0.0 && iv[61] > 0.0);
+    }
+}

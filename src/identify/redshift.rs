@@ -1,0 +1,610 @@
+//! Redshift candidates: seeds from the comb scan, the cross-correlation and
+//! line-pattern voting, each refined by a joint fit of its lines.
+//!
+//! The joint fit models the native pixels as the continuum plus one Gaussian
+//! per catalogue line at `lambda_rest * (1+z)`, all lines sharing z and, per
+//! width group (narrow emission, narrow absorption, hydrogen absorption,
+//! broad emission), one velocity width. Doublets and multiplets thus have
+//! tied widths and the separation their rest wavelengths fix. Amplitudes are
+//! linear and solved exactly for each trial (z, widths) by weighted least
+//! squares with sign constraints (variable projection); z and the widths are
+//! searched by parabolic interpolation. The z error comes from the curvature
+//! of chi-square, scaled by the reduced chi-square when that exceeds 1.
+
+use super::xcorr::{Channel, Comb, Hypothesis};
+use super::{Feature, FeatureKind};
+use crate::lines::{Catalogue, LineKind, Width};
+use crate::physics::constants::C_KM_S;
+
+/// Native-pixel data the fits work on.
+#[derive(Debug, Clone)]
+pub(crate) struct Native<'a> {
+    /// ln(lambda) of each pixel.
+    pub lnw: Vec<f64>,
+    /// Wavelengths.
+    pub wave: &'a [f64],
+    /// Flux.
+    pub flux: &'a [f64],
+    /// Inverse variance (0 for masked, spikes, sky lines).
+    pub ivar: Vec<f64>,
+    /// Continuum for narrow lines.
+    pub cont_narrow: Vec<f64>,
+    /// Continuum for broad lines.
+    pub cont_broad: Vec<f64>,
+}
+
+/// Width groups sharing one velocity width in a joint fit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Group {
+    /// Narrow emission.
+    EmNarrow = 0,
+    /// Narrow absorption (metals, Ca II, Na I, molecular bands).
+    AbNarrow = 1,
+    /// Hydrogen absorption (broad wings in hot stars).
+    AbHydrogen = 2,
+    /// Broad emission.
+    EmBroad = 3,
+}
+
+/// Sign constraint of an amplitude.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Sign {
+    Positive,
+    Negative,
+}
+
+/// One line in a joint fit.
+#[derive(Debug, Clone)]
+pub(crate) struct FitLine {
+    /// Catalogue index.
+    pub line: usize,
+    /// ln(rest wavelength).
+    pub ln_rest: f64,
+    /// Width group.
+    pub group: Group,
+    sign: Sign,
+}
+
+/// Result of a joint fit.
+#[derive(Debug, Clone)]
+pub(crate) struct JointFit {
+    /// ln(1+z).
+    pub s: f64,
+    /// 1-sigma error of ln(1+z).
+    pub s_err: f64,
+    /// Gaussian sigma per group, in ln(lambda).
+    pub widths: [f64; 4],
+    /// The lines fitted (those dropped for the wrong sign keep amplitude 0).
+    pub lines: Vec<FitLine>,
+    /// Amplitudes (flux units; emission > 0).
+    pub amp: Vec<f64>,
+    /// Their 1-sigma errors (scaled by the reduced chi-square when > 1).
+    pub amp_err: Vec<f64>,
+    /// Per-line velocity offsets from the common z, km/s (0 when not measured).
+    pub offset_kms: Vec<f64>,
+    /// Number of good pixels under each line.
+    pub npix: Vec<usize>,
+    /// Total chi-square improvement over the continuum alone.
+    pub gain: f64,
+    /// Reduced chi-square of the fitted windows.
+    pub chi2_red: f64,
+    /// Which continuum the fit used (true = broad).
+    pub broad_base: bool,
+}
+
+/// Default Gaussian sigma per group, km/s.
+const DEFAULT_SIGMA_KMS: [f64; 4] = [110.0, 150.0, 500.0, 2000.0];
+/// Width limits per group, km/s (sigma).
+const SIGMA_LIMITS_KMS: [(f64, f64); 4] = [
+    (15.0, 700.0),
+    (15.0, 900.0),
+    (30.0, 2500.0),
+    (700.0, 6000.0),
+];
+
+/// Choose the lines to fit for a hypothesis at ln(1+z) = `s`.
+pub(crate) fn lines_for(
+    cat: &Catalogue,
+    comb: &Comb,
+    native: &Native,
+    s: f64,
+    em_bias: &dyn Fn(f64) -> bool,
+) -> Vec<FitLine> {
+    let (lo, hi) = match (native.lnw.first(), native.lnw.last()) {
+        (Some(a), Some(b)) => (*a, *b),
+        _ => return Vec::new(),
+    };
+    let mut out: Vec<FitLine> = Vec::new();
+    for t in &comb.teeth {
+        let x = t.ln_rest + s;
+        if x < lo + 0.001 || x > hi - 0.001 {
+            continue;
+        }
+        let l = &cat.lines[t.line];
+        if out.iter().any(|f| f.line == t.line) {
+            continue;
+        }
+        let (group, sign) = match (comb.hypothesis, t.channel) {
+            (Hypothesis::Qso, Channel::EmBroad) => (Group::EmBroad, Sign::Positive),
+            (Hypothesis::Qso, _) => (Group::EmNarrow, Sign::Positive),
+            (Hypothesis::Star, _) => {
+                if l.species == "H I" {
+                    (Group::AbHydrogen, Sign::Negative)
+                } else {
+                    (Group::AbNarrow, Sign::Negative)
+                }
+            }
+            (Hypothesis::Galaxy, _) => match l.kind {
+                LineKind::Emission => (Group::EmNarrow, Sign::Positive),
+                LineKind::Absorption => (Group::AbNarrow, Sign::Negative),
+                LineKind::Both => {
+                    if em_bias(x) {
+                        (Group::EmNarrow, Sign::Positive)
+                    } else {
+                        (Group::AbNarrow, Sign::Negative)
+                    }
+                }
+            },
+        };
+        let _ = Width::Narrow;
+        out.push(FitLine {
+            line: t.line,
+            ln_rest: t.ln_rest,
+            group,
+            sign,
+        });
+    }
+    out
+}
+
+/// Gaussian column of one line: (first pixel, values).
+fn column(native: &Native, x: f64, sig: f64) -> (usize, Vec<f64>) {
+    let a = native.lnw.partition_point(|&v| v < x - 3.5 * sig);
+    let b = native.lnw.partition_point(|&v| v <= x + 3.5 * sig);
+    let vals = native.lnw[a..b]
+        .iter()
+        .map(|&v| (-0.5 * ((v - x) / sig).powi(2)).exp())
+        .collect();
+    (a, vals)
+}
+
+/// Solve the symmetric positive system `m a = b` (Cholesky); `None` if singular.
+fn solve(m: &[f64], b: &[f64], n: usize) -> Option<(Vec<f64>, Vec<f64>)> {
+    let mut l = vec![0.0; n * n];
+    for i in 0..n {
+        for j in 0..=i {
+            let mut s = m[i * n + j];
+            for k in 0..j {
+                s -= l[i * n + k] * l[j * n + k];
+            }
+            if i == j {
+                if s <= 1e-300 {
+                    return None;
+                }
+                l[i * n + i] = s.sqrt();
+            } else {
+                l[i * n + j] = s / l[j * n + j];
+            }
+        }
+    }
+    let fwd = |rhs: &[f64]| -> Vec<f64> {
+        let mut y = vec![0.0; n];
+        for i in 0..n {
+            let mut s = rhs[i];
+            for k in 0..i {
+                s -= l[i * n + k] * y[k];
+            }
+            y[i] = s / l[i * n + i];
+        }
+        let mut x = vec![0.0; n];
+        for i in (0..n).rev() {
+            let mut s = y[i];
+            for k in i + 1..n {
+                s -= l[k * n + i] * x[k];
+            }
+            x[i] = s / l[i * n + i];
+        }
+        x
+    };
+    let a = fwd(b);
+    // Diagonal of the inverse (variances).
+    let mut var = vec![0.0; n];
+    for (i, v) in var.iter_mut().enumerate() {
+        let mut e = vec![0.0; n];
+        e[i] = 1.0;
+        *v = fwd(&e)[i];
+    }
+    Some((a, var))
+}
+
+/// One evaluation of the linear part at fixed (s, widths).
+struct Eval {
+    gain: f64,
+    amp: Vec<f64>,
+    var: Vec<f64>,
+    npix: Vec<usize>,
+    chi2: f64,
+    dof: f64,
+}
+
+fn evaluate(native: &Native, lines: &[FitLine], s: f64, widths: &[f64; 4], broad: bool) -> Eval {
+    let n = lines.len();
+    let cols: Vec<(usize, Vec<f64>)> = lines
+        .iter()
+        .map(|l| column(native, l.ln_rest + s, widths[l.group as usize]))
+        .collect();
+    let base = if broad {
+        &native.cont_broad
+    } else {
+        &native.cont_narrow
+    };
+    let npix: Vec<usize> = cols
+        .iter()
+        .map(|(a, v)| (0..v.len()).filter(|&k| native.ivar[a + k] > 0.0).count())
+        .collect();
+    let mut active: Vec<bool> = npix.iter().map(|&c| c >= 2).collect();
+    let mut amp = vec![0.0; n];
+    let mut var = vec![0.0; n];
+    let mut gain = 0.0;
+    for _ in 0..=n {
+        let idx: Vec<usize> = (0..n).filter(|&i| active[i]).collect();
+        let k = idx.len();
+        if k == 0 {
+            break;
+        }
+        let mut m = vec![0.0; k * k];
+        let mut b = vec![0.0; k];
+        for (p, &i) in idx.iter().enumerate() {
+            let (ai, vi) = &cols[i];
+            for (t, g) in vi.iter().enumerate() {
+                let px = ai + t;
+                let w = native.ivar[px];
+                if w > 0.0 {
+                    b[p] += w * (native.flux[px] - base[px]) * g;
+                }
+            }
+            for (q, &j) in idx.iter().enumerate().take(p + 1) {
+                let (aj, vj) = &cols[j];
+                let lo = (*ai).max(*aj);
+                let hi = (ai + vi.len()).min(aj + vj.len());
+                let mut sum = 0.0;
+                for px in lo..hi {
+                    sum += native.ivar[px] * vi[px - ai] * vj[px - aj];
+                }
+                m[p * k + q] = sum;
+                m[q * k + p] = sum;
+            }
+        }
+        // A touch of ridge keeps near-coincident lines solvable.
+        for p in 0..k {
+            m[p * k + p] *= 1.0 + 1e-9;
+            m[p * k + p] += 1e-300;
+        }
+        let Some((a, v)) = solve(&m, &b, k) else {
+            // Drop the weakest-determined line and retry.
+            if let Some(&i) = idx.last() {
+                active[i] = false;
+                continue;
+            }
+            break;
+        };
+        let mut bad = None;
+        let mut worst = 0.0;
+        for (p, &i) in idx.iter().enumerate() {
+            let wrong = match lines[i].sign {
+                Sign::Positive => a[p] < 0.0,
+                Sign::Negative => a[p] > 0.0,
+            };
+            if wrong {
+                let z = a[p].abs() / v[p].sqrt();
+                if z >= worst {
+                    worst = z;
+                    bad = Some(i);
+                }
+            }
+        }
+        if let Some(i) = bad {
+            active[i] = false;
+            continue;
+        }
+        amp.iter_mut().for_each(|x| *x = 0.0);
+        var.iter_mut().for_each(|x| *x = 0.0);
+        gain = 0.0;
+        for (p, &i) in idx.iter().enumerate() {
+            amp[i] = a[p];
+            var[i] = v[p];
+            gain += a[p] * b[p];
+        }
+        break;
+    }
+    // Chi-square of the fitted windows.
+    let mut model = std::collections::BTreeMap::<usize, f64>::new();
+    for (i, (a, v)) in cols.iter().enumerate() {
+        for (t, g) in v.iter().enumerate() {
+            *model.entry(a + t).or_insert(0.0) += amp[i] * g;
+        }
+    }
+    let mut chi2 = 0.0;
+    let mut cnt = 0.0;
+    for (&px, &mv) in &model {
+        let w = native.ivar[px];
+        if w > 0.0 {
+            let r = native.flux[px] - base[px] - mv;
+            chi2 += w * r * r;
+            cnt += 1.0;
+        }
+    }
+    let nact = amp.iter().filter(|a| **a != 0.0).count() as f64;
+    Eval {
+        gain,
+        amp,
+        var,
+        npix,
+        chi2,
+        dof: (cnt - nact - 1.0).max(1.0),
+    }
+}
+
+/// Parabolic vertex of three equally spaced samples (offset in steps).
+fn vertex(y0: f64, y1: f64, y2: f64) -> f64 {
+    let den = y0 - 2.0 * y1 + y2;
+    if den < 0.0 {
+        (0.5 * (y0 - y2) / den).clamp(-1.0, 1.0)
+    } else {
+        0.0
+    }
+}
+
+/// Joint fit of `lines` near ln(1+z) = `s0`, searching +- `reach` in s.
+pub(crate) fn joint_fit(
+    native: &Native,
+    lines: Vec<FitLine>,
+    s0: f64,
+    reach: f64,
+    init_sigma_kms: [f64; 4],
+) -> Option<JointFit> {
+    if lines.is_empty() {
+        return None;
+    }
+    let broad = lines.iter().any(|l| l.group == Group::EmBroad);
+    let mut widths = [0.0; 4];
+    for g in 0..4 {
+        let (lo, hi) = SIGMA_LIMITS_KMS[g];
+        widths[g] = init_sigma_kms[g].clamp(lo, hi) / C_KM_S;
+    }
+    let g_at = |s: f64, w: &[f64; 4]| evaluate(native, &lines, s, w, broad).gain;
+    // Coarse search in s.
+    let mut s;
+    let steps = 8;
+    let h = reach / steps as f64;
+    let mut best = (f64::NEG_INFINITY, s0);
+    for k in -(steps as isize)..=(steps as isize) {
+        let t = s0 + k as f64 * h;
+        let g = g_at(t, &widths);
+        if g > best.0 {
+            best = (g, t);
+        }
+    }
+    s = best.1;
+    let mut h = h;
+    for _round in 0..2 {
+        // Widths of the groups in use, by factors.
+        for g in 0..4 {
+            if !lines.iter().any(|l| l.group as usize == g) {
+                continue;
+            }
+            let (lo, hi) = SIGMA_LIMITS_KMS[g];
+            let w0 = widths[g];
+            let mut bw = (g_at(s, &widths), w0);
+            for f in [0.55, 0.75, 1.35, 1.8] {
+                let mut w = widths;
+                w[g] = (w0 * f).clamp(lo / C_KM_S, hi / C_KM_S);
+                let v = g_at(s, &w);
+                if v > bw.0 {
+                    bw = (v, w[g]);
+                }
+            }
+            widths[g] = bw.1;
+        }
+        // Parabolic refinement of s, shrinking the step.
+        for _ in 0..3 {
+            let y0 = g_at(s - h, &widths);
+            let y1 = g_at(s, &widths);
+            let y2 = g_at(s + h, &widths);
+            if y0 > y1 && y0 >= y2 {
+                s -= h;
+            } else if y2 > y1 {
+                s += h;
+            } else {
+                s += vertex(y0, y1, y2) * h;
+                h *= 0.4;
+            }
+        }
+    }
+    let ev = evaluate(native, &lines, s, &widths, broad);
+    // Curvature for the error: chi2(s) = chi2_min + C (s - s*)^2 / 2 with
+    // C = -d2 gain / ds2; sigma_s = sqrt(2 / C) (Delta chi2 = 1).
+    let sig_min = widths
+        .iter()
+        .enumerate()
+        .filter(|(g, _)| lines.iter().any(|l| l.group as usize == *g))
+        .map(|(_, w)| *w)
+        .fold(f64::INFINITY, f64::min);
+    let d = (0.1 * sig_min).max(1e-6);
+    let gm = g_at(s - d, &widths);
+    let gp = g_at(s + d, &widths);
+    let curv = -(gp - 2.0 * ev.gain + gm) / (d * d);
+    let chi2_red = ev.chi2 / ev.dof;
+    let scale = chi2_red.max(1.0);
+    let s_err = if curv > 0.0 {
+        (2.0 / curv * scale).sqrt()
+    } else {
+        sig_min
+    };
+    let amp_err: Vec<f64> = ev.var.iter().map(|v| (v * scale).sqrt()).collect();
+    let mut fit = JointFit {
+        s,
+        s_err,
+        widths,
+        amp: ev.amp,
+        amp_err,
+        offset_kms: vec![0.0; lines.len()],
+        npix: ev.npix,
+        gain: ev.gain,
+        chi2_red,
+        broad_base: broad,
+        lines,
+    };
+    measure_offsets(native, &mut fit);
+    Some(fit)
+}
+
+/// Per-line velocity offsets: each significant line alone, the others held
+/// at their fitted amplitudes, best shift by a parabola.
+fn measure_offsets(native: &Native, fit: &mut JointFit) {
+    let base = if fit.broad_base {
+        &native.cont_broad
+    } else {
+        &native.cont_narrow
+    };
+    for i in 0..fit.lines.len() {
+        if fit.amp_err[i] <= 0.0 || (fit.amp[i] / fit.amp_err[i]).abs() < 3.0 {
+            continue;
+        }
+        let sig = fit.widths[fit.lines[i].group as usize];
+        let x0 = fit.lines[i].ln_rest + fit.s;
+        let gain_at = |dx: f64| -> f64 {
+            let (a, v) = column(native, x0 + dx, sig);
+            let mut num = 0.0;
+            let mut den = 0.0;
+            for (t, g) in v.iter().enumerate() {
+                let px = a + t;
+                let w = native.ivar[px];
+                if w <= 0.0 {
+                    continue;
+                }
+                // Residual without the other lines near this one.
+                let mut y = native.flux[px] - base[px];
+                for (j, l) in fit.lines.iter().enumerate() {
+                    if j != i && fit.amp[j] != 0.0 {
+                        let sj = fit.widths[l.group as usize];
+                        let xj = l.ln_rest + fit.s;
+                        let u = (native.lnw[px] - xj) / sj;
+                        if u.abs() < 4.0 {
+                            y -= fit.amp[j] * (-0.5 * u * u).exp();
+                        }
+                    }
+                }
+                num += w * y * g;
+                den += w * g * g;
+            }
+            if den > 0.0 { num * num / den } else { 0.0 }
+        };
+        let h = 0.35 * sig;
+        let mut c = 0.0;
+        for _ in 0..4 {
+            let (y0, y1, y2) = (gain_at(c - h), gain_at(c), gain_at(c + h));
+            if y0 > y1 && y0 >= y2 {
+                c -= h;
+            } else if y2 > y1 {
+                c += h;
+            } else {
+                c += vertex(y0, y1, y2) * h;
+                break;
+            }
+            if c.abs() > 2.0 * sig {
+                break;
+            }
+        }
+        fit.offset_kms[i] = c * C_KM_S;
+    }
+}
+
+/// Default initial widths (sigma, km/s), adjusted by the grid's best
+/// narrow-kernel width at the strongest narrow line.
+pub(crate) fn initial_sigma(narrow_fwhm_kms: Option<f64>) -> [f64; 4] {
+    let mut s = DEFAULT_SIGMA_KMS;
+    if let Some(f) = narrow_fwhm_kms {
+        s[0] = f / 2.3548;
+        s[1] = f / 2.3548;
+        s[2] = s[2].max(f / 2.3548);
+    }
+    s
+}
+
+/// Line-pattern voting: every usable detection paired with every catalogue
+/// line of a compatible kind proposes ln(1+z) = ln(obs / rest); votes,
+/// weighted by detection S/N and line strength, go into bins as wide as the
+/// centroid errors allow. Returns the ln(1+z) of peaks with at least two
+/// consistent pairs, best first.
+pub(crate) fn vote(
+    features: &[Feature],
+    cat: &Catalogue,
+    s_lo: f64,
+    s_hi: f64,
+    bin: f64,
+) -> Vec<(f64, f64, usize)> {
+    if !(bin > 0.0) || s_hi <= s_lo {
+        return Vec::new();
+    }
+    let nb = ((s_hi - s_lo) / bin).ceil() as usize + 1;
+    let mut w = vec![0.0; nb];
+    let mut cnt = vec![0usize; nb];
+    for f in features.iter().filter(|f| f.flag.is_none() && f.wavelength > 0.0) {
+        let lo = f.wavelength.ln();
+        for l in &cat.lines {
+            let ok = matches!(
+                (f.kind, l.kind),
+                (FeatureKind::Emission, LineKind::Emission | LineKind::Both)
+                    | (FeatureKind::Absorption, LineKind::Absorption | LineKind::Both)
+            );
+            if !ok || !(l.wavelength > 0.0) {
+                continue;
+            }
+            let s = lo - l.wavelength.ln();
+            if s < s_lo || s > s_hi {
+                continue;
+            }
+            let k = ((s - s_lo) / bin).round() as usize;
+            let weight = f.snr.clamp(0.0, 30.0) * (0.25 + 0.75 * l.strength.clamp(0.0, 1.0));
+            w[k] += weight;
+            cnt[k] += 1;
+        }
+    }
+    // Merge neighbouring bins (a vote near a bin edge).
+    let mut out = Vec::new();
+    for k in 0..nb {
+        let lo = k.saturating_sub(1);
+        let hi = (k + 1).min(nb - 1);
+        let tot: f64 = w[lo..=hi].iter().sum();
+        let c: usize = cnt[lo..=hi].iter().sum();
+        let is_max = (lo..=hi).all(|j| w[j] <= w[k]) && w[k] > 0.0;
+        if is_max && c >= 2 {
+            out.push((s_lo + k as f64 * bin, tot, c));
+        }
+    }
+    out.sort_by(|a, b| b.1.total_cmp(&a.1));
+    out.truncate(8);
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn cholesky_solves_a_small_system() {
+        // [[4,2],[2,3]] x = [2,1] -> x = [0.5, 0] (by hand).
+        let (x, var) = solve(&[4.0, 2.0, 2.0, 3.0], &[2.0, 1.0], 2).unwrap();
+        assert!((x[0] - 0.5).abs() < 1e-12 && x[1].abs() < 1e-12);
+        // Inverse diagonal: 3/8 and 4/8.
+        assert!((var[0] - 0.375).abs() < 1e-12 && (var[1] - 0.5).abs() < 1e-12);
+    }
+
+    #[test]
+    fn parabola_vertex_is_exact_for_a_parabola() {
+        // y = -(x - 0.3)^2 at x = -1, 0, 1.
+        let f = |x: f64| -(x - 0.3f64).powi(2);
+        assert!((vertex(f(-1.0), f(0.0), f(1.0)) - 0.3).abs() < 1e-12);
+    }
+}

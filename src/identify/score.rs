@@ -1,0 +1,393 @@
+//! Scoring a refined candidate with physics.
+//!
+//! The evidence is the chi-square gain of each fitted line with the right
+//! sign, `max((S/N)^2 - 2, 0)`, summed: a likelihood-ratio statistic with a
+//! charge per free amplitude. From it are taken:
+//!
+//! - **ratio checks**: every fixed ratio of the catalogue (e.g. [O III]
+//!   5007/4959, [N II] 6584/6548) whose two lines were fitted, and the Balmer
+//!   decrement, which dust can only raise above its Case B value; a measured
+//!   ratio outside the allowed range costs `(deviation / error)^2 - 4`;
+//! - **absent lines**: a strong catalogue line of the same group inside the
+//!   observed range, expected at a quarter of the strongest line's
+//!   strength-scaled amplitude but not seen, costs the square of the shortfall;
+//! - **Lyman-alpha forest**: a flux drop blueward of a quasar candidate's
+//!   Lyman-alpha is evidence for it.
+//!
+//! A quasar candidate needs broad lines: with none significant it is
+//! dropped; with only one, and nothing else agreeing, its score is halved.
+
+use super::redshift::{Group, JointFit, Native};
+use super::xcorr::Hypothesis;
+use crate::lines::Catalogue;
+use crate::physics::constants::C_KM_S;
+
+/// Case B H-alpha / H-beta flux ratio at T = 10^4 K, n_e = 10^2 cm^-3
+/// (Osterbrock & Ferland 2006, Astrophysics of Gaseous Nebulae, table 4.4).
+pub const CASE_B_HALPHA_HBETA: f64 = 2.86;
+/// Case B H-beta / H-gamma flux ratio under the same conditions (same table:
+/// H-gamma / H-beta = 0.468).
+pub const CASE_B_HBETA_HGAMMA: f64 = 1.0 / 0.468;
+
+/// Per-line measured quantities of a fit.
+#[derive(Debug, Clone)]
+pub(crate) struct LineMeasure {
+    /// Catalogue index.
+    pub line: usize,
+    /// Amplitude S/N (signed: emission > 0).
+    pub snr: f64,
+    /// Integrated flux (flux x Angstrom), emission > 0.
+    pub flux: f64,
+    /// Its error.
+    pub flux_err: f64,
+    /// Observed wavelength.
+    pub observed: f64,
+    /// FWHM km/s.
+    pub fwhm_kms: f64,
+    /// Observed-frame equivalent width (negative = emission).
+    pub ew: f64,
+    /// Velocity offset km/s.
+    pub offset_kms: f64,
+    /// Good pixels under it.
+    pub npix: usize,
+    /// Width group.
+    pub group: Group,
+}
+
+/// A scored candidate before ranking.
+#[derive(Debug, Clone)]
+pub(crate) struct Scored {
+    /// Hypothesis.
+    pub hypothesis: Hypothesis,
+    /// ln(1+z).
+    pub s: f64,
+    /// Error of ln(1+z).
+    pub s_err: f64,
+    /// Final score.
+    pub score: f64,
+    /// Evidence before penalties.
+    pub evidence: f64,
+    /// Lines measured.
+    pub lines: Vec<LineMeasure>,
+    /// Notes for the reason: penalties and bonuses.
+    pub notes: Vec<String>,
+    /// Sum of penalties.
+    pub penalty: f64,
+    /// Number of lines with |S/N| >= 4.
+    pub n_sig: usize,
+    /// Number of broad lines with S/N >= 4.
+    pub n_broad: usize,
+    /// Strongest |S/N|.
+    pub max_snr: f64,
+    /// Forest depth (1 - blue/red flux ratio) when measured.
+    pub forest: Option<f64>,
+}
+
+fn interp(native: &Native, a: &[f64], lnx: f64) -> f64 {
+    let i = native.lnw.partition_point(|&v| v < lnx);
+    if i == 0 {
+        return a.first().copied().unwrap_or(0.0);
+    }
+    if i >= a.len() {
+        return a.last().copied().unwrap_or(0.0);
+    }
+    let (x0, x1) = (native.lnw[i - 1], native.lnw[i]);
+    let f = if x1 > x0 { (lnx - x0) / (x1 - x0) } else { 0.0 };
+    a[i - 1] * (1.0 - f) + a[i] * f
+}
+
+/// Measure each fitted line.
+pub(crate) fn measure(native: &Native, fit: &JointFit) -> Vec<LineMeasure> {
+    let base = if fit.broad_base {
+        &native.cont_broad
+    } else {
+        &native.cont_narrow
+    };
+    fit.lines
+        .iter()
+        .enumerate()
+        .map(|(i, l)| {
+            let sig = fit.widths[l.group as usize];
+            let x = l.ln_rest + fit.s;
+            let lam = x.exp();
+            let k = sig * lam * (2.0 * std::f64::consts::PI).sqrt();
+            let c = interp(native, base, x);
+            let flux = fit.amp[i] * k;
+            let err = fit.amp_err[i] * k;
+            LineMeasure {
+                line: l.line,
+                snr: if fit.amp_err[i] > 0.0 {
+                    fit.amp[i] / fit.amp_err[i]
+                } else {
+                    0.0
+                },
+                flux,
+                flux_err: err,
+                observed: lam * (fit.offset_kms[i] / C_KM_S).exp(),
+                fwhm_kms: 2.354_820_045 * sig * C_KM_S,
+                ew: if c.abs() > 0.0 { -flux / c } else { 0.0 },
+                offset_kms: fit.offset_kms[i],
+                npix: fit.npix[i],
+                group: l.group,
+            }
+        })
+        .collect()
+}
+
+/// Forest depth for a quasar at ln(1+z) = `s`: 1 - median(flux, rest
+/// 1050-1170 A) / median(flux, rest 1280-1380 A), with its error; `None`
+/// when either window has too few good pixels.
+pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<(f64, f64)> {
+    let window = |a: f64, b: f64| -> Vec<f64> {
+        let (la, lb) = (a.ln() + s, b.ln() + s);
+        let i = native.lnw.partition_point(|&v| v < la);
+        let j = native.lnw.partition_point(|&v| v <= lb);
+        (i..j)
+            .filter(|&k| native.ivar[k] > 0.0)
+            .map(|k| native.flux[k])
+            .collect()
+    };
+    let med = |mut v: Vec<f64>| -> Option<(f64, usize)> {
+        if v.len() < 15 {
+            return None;
+        }
+        let m = v.len() / 2;
+        v.select_nth_unstable_by(m, f64::total_cmp);
+        Some((v[m], v.len()))
+    };
+    let (b, nb) = med(window(1050.0, 1170.0))?;
+    let (r, nr) = med(window(1280.0, 1380.0))?;
+    if r <= 0.0 {
+        return None;
+    }
+    // Noise of the red median (1.25 sigma / sqrt N for a median).
+    let lr = (1280.0f64.ln() + s, 1380.0f64.ln() + s);
+    let i = native.lnw.partition_point(|&v| v < lr.0);
+    let j = native.lnw.partition_point(|&v| v <= lr.1);
+    let sig: Vec<f64> = (i..j)
+        .filter(|&k| native.ivar[k] > 0.0)
+        .map(|k| 1.0 / native.ivar[k].sqrt())
+        .collect();
+    let s_red = sig.iter().sum::<f64>() / sig.len().max(1) as f64;
+    let err = 1.25 * s_red / (nr.min(nb) as f64).sqrt() / r * 2f64.sqrt();
+    Some((1.0 - b / r, err))
+}
+
+/// Score a fit. `forest_edge`: when a quasar's forest has been recognised,
+/// the ln(lambda) below which absorption lines may not count for other
+/// hypotheses.
+pub(crate) fn score(
+    cat: &Catalogue,
+    hypothesis: Hypothesis,
+    native: &Native,
+    fit: &JointFit,
+    forest_edge: Option<f64>,
+) -> Scored {
+    let mut lines = measure(native, fit);
+    let mut notes = Vec::new();
+    if let (Some(edge), true) = (forest_edge, hypothesis != Hypothesis::Qso) {
+        let before = lines.len();
+        lines.retain(|m| !(m.snr < 0.0 && m.observed.ln() < edge));
+        if lines.len() < before {
+            notes.push("absorptions in the Lyman-alpha forest ignored".to_string());
+        }
+    }
+    let gain = |m: &LineMeasure| (m.snr * m.snr - 2.0).max(0.0);
+    let evidence: f64 = lines.iter().map(gain).sum();
+    let mut penalty = 0.0;
+    let name_of = |i: usize| cat.lines[i].name.as_str();
+    let find = |name: &str| lines.iter().find(|m| name_of(m.line) == name);
+
+    // Fixed ratios.
+    for r in &cat.ratios {
+        let (Some(n), Some(d)) = (find(&r.numerator), find(&r.denominator)) else {
+            continue;
+        };
+        if n.npix < 3 || d.npix < 3 {
+            continue;
+        }
+        if let Some(p) = ratio_penalty(n, d, r.range) {
+            if p > 0.0 {
+                notes.push(format!(
+                    "{}/{} ratio off ({:.2}, allowed {:.2}-{:.2})",
+                    r.numerator,
+                    r.denominator,
+                    n.flux / d.flux.max(1e-300),
+                    r.range.0,
+                    r.range.1
+                ));
+            }
+            penalty += p;
+        }
+    }
+    // Balmer decrement (emission only; dust raises it, nothing lowers it
+    // much below Case B).
+    if hypothesis != Hypothesis::Star {
+        for (num, den, case_b) in [
+            ("H-alpha", "H-beta", CASE_B_HALPHA_HBETA),
+            ("H-beta", "H-gamma", CASE_B_HBETA_HGAMMA),
+        ] {
+            let (Some(n), Some(d)) = (find(num), find(den)) else {
+                continue;
+            };
+            if n.group != d.group || n.npix < 3 || d.npix < 3 || d.snr < 3.0 {
+                continue;
+            }
+            // Allow 30% below Case B for measurement systematics.
+            if let Some(p) = ratio_penalty(n, d, (0.7 * case_b, f64::INFINITY))
+                && p > 0.0
+            {
+                notes.push(format!("{num}/{den} below Case B"));
+                penalty += p;
+            }
+        }
+    }
+    // Absent strong lines, per group, relative to the strongest line.
+    for group in [Group::EmNarrow, Group::EmBroad, Group::AbNarrow] {
+        let frac = if group == Group::AbNarrow { 0.15 } else { 0.25 };
+        let in_group: Vec<&LineMeasure> = lines
+            .iter()
+            .filter(|m| m.group == group && m.npix >= 3)
+            .collect();
+        let Some(top) = in_group
+            .iter()
+            .max_by(|a, b| a.snr.abs().total_cmp(&b.snr.abs()))
+        else {
+            continue;
+        };
+        if top.snr.abs() < 8.0 {
+            continue;
+        }
+        let s_top = cat.lines[top.line].strength.max(0.05);
+        let amp_top = top.flux.abs();
+        let mut group_pen = 0.0;
+        let mut missing = Vec::new();
+        for m in &in_group {
+            let s_l = cat.lines[m.line].strength;
+            if s_l < 0.5 || m.line == top.line || m.flux_err <= 0.0 {
+                continue;
+            }
+            let pred = frac * amp_top * (s_l / s_top).min(1.0) / m.flux_err;
+            let seen = m.snr.abs();
+            let short = pred - seen - 2.0;
+            if short > 0.0 {
+                group_pen += (short * short).min(40.0);
+                missing.push(name_of(m.line).to_string());
+            }
+        }
+        if !missing.is_empty() {
+            notes.push(format!("missing {}", missing.join(", ")));
+        }
+        penalty += group_pen.min(150.0);
+    }
+    let n_sig = lines.iter().filter(|m| m.snr.abs() >= 4.0).count();
+    let n_broad = lines
+        .iter()
+        .filter(|m| m.group == Group::EmBroad && m.snr >= 4.0)
+        .count();
+    let max_snr = lines.iter().map(|m| m.snr.abs()).fold(0.0, f64::max);
+    let mut score = evidence - penalty;
+    let mut forest = None;
+    if hypothesis == Hypothesis::Qso {
+        if let Some((depth, err)) = forest_depth(native, fit.s) {
+            forest = Some(depth);
+            if depth > 0.1 && depth > 3.0 * err {
+                let bonus = (100.0 * depth).min(60.0);
+                score += bonus;
+                notes.push(format!("Lyman-alpha forest, flux drop {:.0}%", 100.0 * depth));
+            }
+        }
+        let narrow_sig = lines
+            .iter()
+            .filter(|m| m.group == Group::EmNarrow && m.snr >= 4.0)
+            .count();
+        let forest_seen = forest.is_some_and(|d| d > 0.15);
+        if n_broad == 0 {
+            score = score.min(0.0);
+            notes.push("no broad line".to_string());
+        } else if n_broad == 1 && narrow_sig == 0 && !forest_seen {
+            score *= 0.5;
+            notes.push("a single broad line".to_string());
+        }
+    }
+    Scored {
+        hypothesis,
+        s: fit.s,
+        s_err: fit.s_err,
+        score,
+        evidence,
+        lines,
+        notes,
+        penalty,
+        n_sig,
+        n_broad,
+        max_snr,
+        forest,
+    }
+}
+
+/// Penalty for a flux ratio n/d outside `range`, by its deviation in errors:
+/// `min((dev/err)^2 - 4, 80)` when the deviation exceeds two errors.
+/// `None` when the denominator is not measured.
+pub(crate) fn ratio_penalty(n: &LineMeasure, d: &LineMeasure, range: (f64, f64)) -> Option<f64> {
+    // Fluxes in the expected sense (emission positive, absorption as depth).
+    let sign = if d.flux < 0.0 || n.flux < 0.0 {
+        -1.0
+    } else {
+        1.0
+    };
+    let (fnum, fden) = (sign * n.flux, sign * d.flux);
+    if !(d.flux_err > 0.0) || !(n.flux_err > 0.0) {
+        return None;
+    }
+    let fden_eff = fden.max(d.flux_err);
+    let r = fnum.max(0.0) / fden_eff;
+    let rel_n = n.flux_err / fnum.abs().max(n.flux_err);
+    let rel_d = d.flux_err / fden_eff;
+    let err = (r * (rel_n * rel_n + rel_d * rel_d).sqrt()).max(n.flux_err / fden_eff);
+    let dev = if r < range.0 {
+        range.0 - r
+    } else if r > range.1 {
+        r - range.1
+    } else {
+        0.0
+    };
+    let z = dev / err;
+    Some(if z > 2.0 {
+        (z * z - 4.0).min(80.0)
+    } else {
+        0.0
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn lm(flux: f64, err: f64) -> LineMeasure {
+        LineMeasure {
+            line: 0,
+            snr: flux / err,
+            flux,
+            flux_err: err,
+            observed: 5000.0,
+            fwhm_kms: 200.0,
+            ew: 0.0,
+            offset_kms: 0.0,
+            npix: 10,
+            group: Group::EmNarrow,
+        }
+    }
+
+    #[test]
+    fn a_ratio_inside_its_range_costs_nothing() {
+        assert_eq!(ratio_penalty(&lm(30.0, 1.0), &lm(10.0, 1.0), (2.8, 3.2)), Some(0.0));
+    }
+
+    #[test]
+    fn a_weaker_line_stronger_than_its_partner_is_penalised() {
+        // 5007 needing to be a third of 4959: ratio 0.33 against ~3.
+        let p = ratio_penalty(&lm(10.0, 1.0), &lm(30.0, 1.0), (2.8, 3.2)).unwrap();
+        assert!(p > 50.0, "{p}");
+    }
+}

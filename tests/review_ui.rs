@@ -1,0 +1,474 @@
+//! The review UI without a terminal: key sequences through `App::update`,
+//! every screen state rendered on a fixed-size buffer (insta snapshots), and
+//! exact colours where they carry meaning.
+
+#[path = "common/review_fixture.rs"]
+mod fx;
+
+
+use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
+use ratatui::buffer::Buffer;
+use ratatui::layout::Rect;
+use ratatui::style::Color;
+use zsift::lines::ObjectClass;
+use zsift::tui::app::{App, Decision, Effect, Entry, Mode, Msg, Slot, StatusKind, Verdict, shift_z};
+use zsift::tui::theme::Theme;
+use zsift::tui::widgets;
+
+fn key(c: char) -> Msg {
+    Msg::Key(KeyEvent::new(KeyCode::Char(c), KeyModifiers::NONE))
+}
+
+fn code(k: KeyCode) -> Msg {
+    Msg::Key(KeyEvent::new(k, KeyModifiers::NONE))
+}
+
+/// Press keys, carrying out Record effects with a journal that succeeds.
+fn press(app: &mut App, msgs: impl IntoIterator<Item = Msg>) -> Vec<Effect> {
+    let mut all = Vec::new();
+    for m in msgs {
+        let effects = app.update(m);
+        for e in &effects {
+            if let Effect::Record(entry) = e {
+                let follow = app.update(Msg::Recorded { entry: entry.clone(), result: Ok(()) });
+                all.extend(follow);
+            }
+        }
+        all.extend(effects);
+        fx::deliver(app);
+    }
+    all
+}
+
+fn screen(app: &App, w: u16, h: u16) -> Buffer {
+    let area = Rect::new(0, 0, w, h);
+    let mut buf = Buffer::empty(area);
+    widgets::render(app, area, &mut buf);
+    buf
+}
+
+fn text(buf: &Buffer) -> String {
+    let a = buf.area;
+    let mut out = String::new();
+    for y in a.top()..a.bottom() {
+        let mut line = String::new();
+        for x in a.left()..a.right() {
+            line.push_str(buf[(x, y)].symbol());
+        }
+        out.push_str(line.trim_end());
+        out.push('\n');
+    }
+    out
+}
+
+fn recorded(effects: &[Effect]) -> Vec<Entry> {
+    effects
+        .iter()
+        .filter_map(|e| match e {
+            Effect::Record(x) => Some(x.clone()),
+            _ => None,
+        })
+        .collect()
+}
+
+// ---- key sequences --------------------------------------------------------
+
+#[test]
+fn accepting_asks_for_a_durable_write_and_says_saved_only_after_it() {
+    let mut app = fx::app();
+    let effects = app.update(key('a'));
+    let entries = recorded(&effects);
+    assert_eq!(entries.len(), 1);
+    let Entry::Decide { target: 0, decision } = &entries[0] else { panic!("{entries:?}") };
+    assert_eq!(decision.verdict, Verdict::Accept);
+    assert_eq!(decision.z, Some(0.1));
+    assert_eq!(decision.class, Some(ObjectClass::Galaxy));
+    assert_eq!(decision.candidate_rank, Some(1));
+    // Not saved yet: the screen must not claim it.
+    assert_eq!(app.decisions[0], None);
+    assert!(!matches!(app.status, Some((StatusKind::Saved, _))));
+    assert!(!text(&screen(&app, 80, 24)).contains("saved:"));
+    let _ = app.update(Msg::Recorded { entry: entries[0].clone(), result: Ok(()) });
+    assert_eq!(app.decisions[0].as_ref().map(|d| d.verdict), Some(Verdict::Accept));
+    assert!(matches!(&app.status, Some((StatusKind::Saved, s)) if s.contains("Kestrel-01")));
+    // And it went on to the next undecided target.
+    assert_eq!(app.pos, 1);
+}
+
+#[test]
+fn a_failed_write_says_not_saved_and_changes_nothing() {
+    let mut app = fx::app();
+    let effects = app.update(key('r'));
+    let entry = recorded(&effects).remove(0);
+    let _ = app.update(Msg::Recorded { entry, result: Err("disk full".into()) });
+    assert_eq!(app.decisions[0], None);
+    assert_eq!(app.pos, 0);
+    let shown = text(&screen(&app, 80, 24));
+    assert!(shown.contains("NOT SAVED: disk full"), "{shown}");
+}
+
+#[test]
+fn reject_and_reobserve_record_their_verdicts_without_a_redshift() {
+    let mut app = fx::app();
+    let e = press(&mut app, [key('r'), key('f')]);
+    let v: Vec<(usize, Verdict, Option<f64>)> = recorded(&e)
+        .into_iter()
+        .map(|x| match x {
+            Entry::Decide { target, decision } => (target, decision.verdict, decision.z),
+            other => panic!("{other:?}"),
+        })
+        .collect();
+    assert_eq!(v, vec![(0, Verdict::Reject, None), (1, Verdict::Reobserve, None)]);
+    assert_eq!(app.pos, 2);
+}
+
+#[test]
+fn class_and_subclass_set_by_hand_are_accepted_at_the_shown_redshift() {
+    let mut app = fx::app();
+    let e = press(
+        &mut app,
+        [key('c'), key('3'), key('B'), key('A'), key('L'), code(KeyCode::Enter)],
+    );
+    let Entry::Decide { decision, .. } = recorded(&e).remove(0) else { panic!() };
+    assert_eq!(
+        decision,
+        Decision {
+            verdict: Verdict::Accept,
+            z: Some(0.1),
+            z_err: Some(0.00004),
+            class: Some(ObjectClass::Qso),
+            subclass: Some("BAL".into()),
+            candidate_rank: Some(1),
+            by_hand: true,
+            grade: None,
+            lines: fx::LINES.iter().map(|l| l.0.to_string()).collect(),
+        }
+    );
+}
+
+#[test]
+fn escape_cancels_the_class_picker_without_writing() {
+    let mut app = fx::app();
+    let e = press(&mut app, [key('c'), key('2'), code(KeyCode::Esc)]);
+    assert!(recorded(&e).is_empty());
+    assert_eq!(app.mode, Mode::Browse);
+}
+
+#[test]
+fn q_quits_at_once_even_from_the_class_picker() {
+    let mut app = fx::app();
+    assert_eq!(app.update(key('q')), vec![Effect::Quit]);
+    let mut app = fx::app();
+    let _ = app.update(key('c'));
+    assert_eq!(app.update(key('q')), vec![Effect::Quit]);
+}
+
+#[test]
+fn a_note_may_contain_q_and_is_cleaned_before_saving() {
+    let mut app = fx::app();
+    let mut msgs = vec![key('t')];
+    msgs.extend("quiet\u{1b}[31m sky".chars().map(key));
+    msgs.push(code(KeyCode::Enter));
+    let e = press(&mut app, msgs);
+    assert!(!e.contains(&Effect::Quit));
+    assert_eq!(
+        recorded(&e),
+        vec![Entry::Note { target: 0, text: "quiet[31m sky".into() }]
+    );
+    assert_eq!(app.notes[0].as_deref(), Some("quiet[31m sky"));
+}
+
+#[test]
+fn nudging_asks_the_core_to_remeasure_and_the_answer_replaces_the_matches() {
+    let mut app = fx::app();
+    let e = app.update(key('.'));
+    let want = shift_z(0.1, 25.0);
+    assert_eq!(e, vec![Effect::Remeasure { target: 0, z: want }]);
+    // Until the core answers, markers move but no match is claimed.
+    let shown = app.shown_candidate().expect("candidate");
+    assert_eq!(shown.z, want);
+    assert!(shown.matched.is_empty());
+    let mut c = fx::loaded(0).analysis.candidates[0].clone();
+    c.z = want;
+    c.matched.truncate(2);
+    let _ = app.update(Msg::Remeasured { target: 0, z: want, candidate: c });
+    assert_eq!(app.shown_candidate().expect("candidate").matched.len(), 2);
+    // Accepting now records the nudged redshift, marked as by hand.
+    let Entry::Decide { decision, .. } = recorded(&app.update(key('a'))).remove(0) else { panic!() };
+    assert_eq!(decision.z, Some(want));
+    assert!(decision.by_hand);
+}
+
+#[test]
+fn a_coarse_nudge_is_twenty_fine_ones_and_z_resets() {
+    let mut app = fx::app();
+    let _ = app.update(key('>'));
+    let coarse = app.nudge.as_ref().expect("nudged").z;
+    assert!((coarse - shift_z(0.1, 500.0)).abs() < 1e-12);
+    let _ = app.update(key('z'));
+    assert_eq!(app.nudge, None);
+    assert_eq!(app.shown_candidate().expect("c").z, 0.1);
+}
+
+#[test]
+fn a_stale_remeasurement_for_another_redshift_is_ignored() {
+    let mut app = fx::app();
+    let _ = app.update(key('.'));
+    let _ = app.update(key('.'));
+    let old = shift_z(0.1, 25.0);
+    let c = fx::loaded(0).analysis.candidates[0].clone();
+    let _ = app.update(Msg::Remeasured { target: 0, z: old, candidate: c });
+    assert!(app.nudge.as_ref().expect("nudged").candidate.is_none());
+}
+
+#[test]
+fn undo_restores_the_previous_state_and_returns_to_that_target() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('a')]);
+    assert_eq!(app.pos, 1);
+    let e = press(&mut app, [key('u')]);
+    assert_eq!(recorded(&e), vec![Entry::Undo { target: 0 }]);
+    assert_eq!(app.decisions[0], None);
+    assert_eq!(app.pos, 0);
+    let e = press(&mut app, [key('u')]);
+    assert!(recorded(&e).is_empty(), "nothing left to undo");
+}
+
+#[test]
+fn next_undecided_skips_decided_targets_and_wraps() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('r'), key('r')]);
+    assert_eq!(app.pos, 2);
+    let _ = press(&mut app, [key('n'), key('n'), key('n')]);
+    assert_eq!(app.pos, 5);
+    let _ = press(&mut app, [key(' ')]);
+    assert_eq!(app.pos, 2, "wraps past the decided 0 and 1");
+}
+
+#[test]
+fn previous_and_next_stop_at_the_ends() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('p')]);
+    assert_eq!(app.pos, 0);
+    let _ = press(&mut app, (0..10).map(|_| key('n')));
+    assert_eq!(app.pos, 5);
+}
+
+#[test]
+fn candidate_cursor_moves_within_the_list_and_accept_takes_that_one() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [code(KeyCode::Down), code(KeyCode::Down), code(KeyCode::Down)]);
+    assert_eq!(app.cand_cursor, 2);
+    let _ = press(&mut app, [code(KeyCode::Up)]);
+    let Entry::Decide { decision, .. } = recorded(&app.update(key('a'))).remove(0) else { panic!() };
+    assert_eq!(decision.candidate_rank, Some(2));
+    assert_eq!(decision.z, Some(0.3421));
+}
+
+#[test]
+fn zoom_pan_and_view_all_keep_the_view_inside_the_spectrum() {
+    let mut app = fx::app();
+    let (lo, hi) = app.full_range().expect("loaded");
+    let _ = press(&mut app, [key('+')]);
+    let (a, b) = app.view.range.expect("zoomed");
+    assert!((b - a - (hi - lo) / 2.0).abs() < 1e-9);
+    let _ = press(&mut app, (0..20).map(|_| code(KeyCode::Left)));
+    assert_eq!(app.view.range.expect("zoomed").0, lo);
+    let _ = press(&mut app, [key('0')]);
+    assert_eq!(app.view.range, None);
+    let _ = press(&mut app, [key('-')]);
+    assert_eq!(app.view.range, None, "cannot zoom out past the whole spectrum");
+}
+
+#[test]
+fn jumping_line_to_line_centres_the_view_on_each_matched_line() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [code(KeyCode::Tab)]);
+    assert_eq!(app.line_cursor, Some(0));
+    let c = app.shown_candidate().expect("c");
+    let (a, b) = app.view.range.expect("zoomed to the line");
+    let w = c.matched[0].observed_wavelength;
+    assert!(a <= w && w <= b);
+    let _ = press(&mut app, [code(KeyCode::BackTab)]);
+    assert_eq!(app.line_cursor, Some(c.matched.len() - 1), "wraps backwards");
+}
+
+#[test]
+fn a_result_for_a_target_far_from_the_cursor_is_not_kept() {
+    let mut app = fx::app();
+    let _ = app.update(Msg::Loaded { target: 5, result: Ok(fx::loaded(5)) });
+    assert!(!app.slots.contains_key(&5));
+}
+
+#[test]
+fn stepping_asks_the_worker_for_the_next_targets_first() {
+    let mut app = fx::app();
+    let e = app.update(key('n'));
+    assert_eq!(e, vec![Effect::Want(vec![3])], "1 and 2 are loaded, 3 is next ahead");
+}
+
+#[test]
+fn a_signal_quits_with_its_reason() {
+    let mut app = fx::app();
+    assert_eq!(app.update(Msg::Stop("stopped by SIGHUP".into())), vec![Effect::Quit]);
+    assert!(app.quitting);
+}
+
+#[test]
+fn help_opens_and_any_key_closes_it() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('?')]);
+    assert_eq!(app.mode, Mode::Help);
+    let e = press(&mut app, [key('a')]);
+    assert_eq!(app.mode, Mode::Browse);
+    assert!(recorded(&e).is_empty(), "the closing key does nothing else");
+}
+
+// ---- screens --------------------------------------------------------------
+
+fn snap(name: &str, app: &App, w: u16, h: u16) {
+    insta::assert_snapshot!(name, text(&screen(app, w, h)));
+}
+
+#[test]
+fn screen_browse_ascii_80x24() {
+    snap("browse_ascii_80x24", &fx::app(), 80, 24);
+}
+
+#[test]
+fn screen_browse_ascii_100x30() {
+    snap("browse_ascii_100x30", &fx::app(), 100, 30);
+}
+
+#[test]
+fn screen_browse_braille_100x30() {
+    let mut app = fx::app();
+    app.ascii = false;
+    snap("browse_braille_100x30", &app, 100, 30);
+}
+
+#[test]
+fn screen_waiting_for_the_worker() {
+    let mut app = fx::app();
+    app.slots.insert(0, Slot::Waiting);
+    snap("waiting_80x24", &app, 80, 24);
+}
+
+#[test]
+fn screen_failed_target() {
+    let mut app = fx::app();
+    app.slots.insert(
+        0,
+        Slot::Failed("night1/kestrel-01.fits: line 12, column 3: not a number".into()),
+    );
+    snap("failed_80x24", &app, 80, 24);
+}
+
+#[test]
+fn screen_help_overlay_80x24() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('?')]);
+    snap("help_80x24", &app, 80, 24);
+}
+
+#[test]
+fn screen_class_picker_and_subclass_prompt() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('c')]);
+    snap("class_picker_80x24", &app, 80, 24);
+    let _ = press(&mut app, [key('2'), key('E'), key('0')]);
+    snap("subclass_prompt_80x24", &app, 80, 24);
+}
+
+#[test]
+fn screen_note_prompt() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('t'), key('h'), key('i')]);
+    snap("note_prompt_80x24", &app, 80, 24);
+}
+
+#[test]
+fn screen_decided_target_with_note() {
+    let mut app = fx::app();
+    app.advance = false;
+    let mut msgs = vec![key('t')];
+    msgs.extend("thin cloud".chars().map(key));
+    msgs.push(code(KeyCode::Enter));
+    msgs.push(key('a'));
+    let _ = press(&mut app, msgs);
+    snap("decided_80x24", &app, 80, 24);
+}
+
+#[test]
+fn screen_zoomed_on_a_line_with_errors_and_sky() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [code(KeyCode::Tab), code(KeyCode::Tab), key('e'), key('k'), key('s')]);
+    snap("zoomed_line_100x30", &app, 100, 30);
+}
+
+#[test]
+fn screen_nudged_waiting_for_the_core() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('>')]);
+    snap("nudged_80x24", &app, 80, 24);
+}
+
+#[test]
+fn screen_too_small() {
+    snap("too_small", &fx::app(), 50, 12);
+}
+
+#[test]
+fn screen_empty_queue() {
+    let mut app = App::new(Vec::new(), Vec::new(), std::sync::Arc::new(fx::catalogue()));
+    let _ = app.start();
+    snap("empty_queue_80x24", &app, 80, 24);
+}
+
+// ---- colours ---------------------------------------------------------------
+
+#[test]
+fn night_theme_paints_every_cell_red_or_black_only() {
+    let mut app = fx::app();
+    app.ascii = false;
+    app.theme = Theme::builtin("night").expect("night");
+    let _ = press(&mut app, [code(KeyCode::Tab), key('e'), key('k')]);
+    for (w, h) in [(80, 24), (100, 30)] {
+        let buf = screen(&app, w, h);
+        for cell in buf.content() {
+            assert!(matches!(cell.fg, Color::Red | Color::Black), "fg {:?} at {:?}", cell.fg, cell.symbol());
+            assert!(matches!(cell.bg, Color::Red | Color::Black), "bg {:?} at {:?}", cell.bg, cell.symbol());
+        }
+    }
+    // The help overlay and prompts too.
+    let _ = press(&mut app, [key('?')]);
+    for cell in screen(&app, 80, 24).content() {
+        assert!(matches!(cell.fg, Color::Red | Color::Black) && matches!(cell.bg, Color::Red | Color::Black));
+    }
+}
+
+#[test]
+fn mono_theme_sends_no_colour_at_all() {
+    let mut app = fx::app();
+    app.theme = Theme::builtin("mono").expect("mono");
+    for cell in screen(&app, 100, 30).content() {
+        assert_eq!((cell.fg, cell.bg), (Color::Reset, Color::Reset), "{:?}", cell.symbol());
+    }
+}
+
+#[test]
+fn standard_theme_marks_emission_green_and_the_selected_line_highlighted() {
+    let mut app = fx::app();
+    let buf = screen(&app, 100, 30);
+    // Row 2 is the plot's emission-marker row (header is rows 0-1).
+    let em: Vec<Color> = (0..100).filter(|x| buf[(*x, 2)].symbol() == "v").map(|x| buf[(x, 2)].fg).collect();
+    assert!(!em.is_empty());
+    assert!(em.iter().all(|c| *c == Color::LightGreen), "{em:?}");
+    let _ = press(&mut app, [code(KeyCode::Tab)]);
+    let buf = screen(&app, 100, 30);
+    let sel: Vec<(Color, Color)> = (0..100)
+        .filter(|x| buf[(*x, 2)].symbol() == "v" && buf[(*x, 2)].bg == Color::LightYellow)
+        .map(|x| (buf[(x, 2)].fg, buf[(x, 2)].bg))
+        .collect();
+    assert_eq!(sel, vec![(Color::Black, Color::LightYellow)]);
+}
