@@ -119,3 +119,53 @@ fn the_csv_form_writes_a_header_and_one_row_per_input_to_the_out_file() {
             .all(|row| &row[2] == "error" && !row[20].is_empty())
     );
 }
+
+#[test]
+fn the_real_identifier_gives_identical_output_for_one_and_two_jobs() {
+    let fixtures = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/fits");
+    let files: Vec<_> = [
+        "image1d_wave_f64.fits",
+        "image2d_rows.fits",
+        "table_rows.fits",
+        "table_vector.fits",
+    ]
+    .iter()
+    .map(|f| fixtures.join(f))
+    .collect();
+    let run = |jobs: &str| {
+        let o = zsift()
+            .args(["scan", "--jobs", jobs])
+            .args(&files)
+            .output()
+            .expect("runs");
+        assert_eq!(
+            o.status.code(),
+            Some(0),
+            "{}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        String::from_utf8(o.stdout).expect("utf8")
+    };
+    let one = run("1");
+    let two = run("2");
+    assert_eq!(one, two);
+    assert_eq!(one.lines().count(), 4);
+    for line in one.lines() {
+        let v: serde_json::Value = serde_json::from_str(line).expect("json");
+        assert_eq!(v["status"], "ok");
+        assert!(
+            v["barycentric_correction_kms"].is_null()
+                || v["barycentric_correction_kms"].is_number()
+        );
+        let c = v["candidates"].as_array().expect("candidates");
+        for (i, c) in c.iter().enumerate() {
+            assert_eq!(c["rank"], i + 1);
+            assert!(
+                ["high", "good", "fair", "poor"].contains(&c["grade"].as_str().expect("grade"))
+            );
+            assert!(
+                ["star", "galaxy", "qso", "unknown"].contains(&c["class"].as_str().expect("class"))
+            );
+        }
+    }
+}

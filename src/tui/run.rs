@@ -152,10 +152,9 @@ where
                                 z,
                                 candidate,
                             }),
-                            Err(message) => queue.push_back(Msg::RemeasureFailed {
-                                target,
-                                message,
-                            }),
+                            Err(message) => {
+                                queue.push_back(Msg::RemeasureFailed { target, message })
+                            }
                         }
                     }
                 }
