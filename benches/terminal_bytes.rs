@@ -98,26 +98,10 @@ fn measure(w: u16, h: u16, ascii: bool) -> Vec<Stats> {
         }
     }
     vec![
-        Stats {
-            name: "first full draw",
-            samples: vec![first],
-            limit: usize::MAX,
-        },
-        Stats {
-            name: "step to next/previous target",
-            samples: step,
-            limit: 6 * 1024,
-        },
-        Stats {
-            name: "candidate cursor move",
-            samples: cand,
-            limit: 400,
-        },
-        Stats {
-            name: "line cursor move (jump to line, replot)",
-            samples: line,
-            limit: usize::MAX,
-        },
+        Stats { name: "first full draw", samples: vec![first], limit: usize::MAX },
+        Stats { name: "step to next/previous target", samples: step, limit: 6 * 1024 },
+        Stats { name: "candidate cursor move", samples: cand, limit: 400 },
+        Stats { name: "line cursor move (jump to line, replot)", samples: line, limit: usize::MAX },
     ]
 }
 
@@ -127,11 +111,7 @@ fn main() {
     for (w, h, ascii) in [(100, 30, true), (80, 24, true), (100, 30, false)] {
         println!("{w}x{h} {}", if ascii { "plain ASCII" } else { "Braille" });
         for s in measure(w, h, ascii) {
-            let goal = if s.limit == usize::MAX {
-                String::new()
-            } else {
-                format!("  (goal < {} B)", s.limit)
-            };
+            let goal = if s.limit == usize::MAX { String::new() } else { format!("  (goal < {} B)", s.limit) };
             println!(
                 "  {:<42} max {:>6} B  mean {:>8.1} B  over {} samples{goal}",
                 s.name,

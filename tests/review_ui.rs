@@ -5,14 +5,13 @@
 #[path = "common/review_fixture.rs"]
 mod fx;
 
+
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 use ratatui::style::Color;
 use zsift::lines::ObjectClass;
-use zsift::tui::app::{
-    App, Decision, Effect, Entry, Mode, Msg, Slot, StatusKind, Verdict, shift_z,
-};
+use zsift::tui::app::{App, Decision, Effect, Entry, Mode, Msg, Slot, StatusKind, Verdict, shift_z};
 use zsift::tui::theme::Theme;
 use zsift::tui::widgets;
 
@@ -31,10 +30,7 @@ fn press(app: &mut App, msgs: impl IntoIterator<Item = Msg>) -> Vec<Effect> {
         let effects = app.update(m);
         for e in &effects {
             if let Effect::Record(entry) = e {
-                let follow = app.update(Msg::Recorded {
-                    entry: entry.clone(),
-                    result: Ok(()),
-                });
+                let follow = app.update(Msg::Recorded { entry: entry.clone(), result: Ok(()) });
                 all.extend(follow);
             }
         }
@@ -83,13 +79,7 @@ fn accepting_asks_for_a_durable_write_and_says_saved_only_after_it() {
     let effects = app.update(key('a'));
     let entries = recorded(&effects);
     assert_eq!(entries.len(), 1);
-    let Entry::Decide {
-        target: 0,
-        decision,
-    } = &entries[0]
-    else {
-        panic!("{entries:?}")
-    };
+    let Entry::Decide { target: 0, decision } = &entries[0] else { panic!("{entries:?}") };
     assert_eq!(decision.verdict, Verdict::Accept);
     assert_eq!(decision.z, Some(0.1));
     assert_eq!(decision.class, Some(ObjectClass::Galaxy));
@@ -98,14 +88,8 @@ fn accepting_asks_for_a_durable_write_and_says_saved_only_after_it() {
     assert_eq!(app.decisions[0], None);
     assert!(!matches!(app.status, Some((StatusKind::Saved, _))));
     assert!(!text(&screen(&app, 80, 24)).contains("saved:"));
-    let _ = app.update(Msg::Recorded {
-        entry: entries[0].clone(),
-        result: Ok(()),
-    });
-    assert_eq!(
-        app.decisions[0].as_ref().map(|d| d.verdict),
-        Some(Verdict::Accept)
-    );
+    let _ = app.update(Msg::Recorded { entry: entries[0].clone(), result: Ok(()) });
+    assert_eq!(app.decisions[0].as_ref().map(|d| d.verdict), Some(Verdict::Accept));
     assert!(matches!(&app.status, Some((StatusKind::Saved, s)) if s.contains("Kestrel-01")));
     // And it went on to the next undecided target.
     assert_eq!(app.pos, 1);
@@ -116,10 +100,7 @@ fn a_failed_write_says_not_saved_and_changes_nothing() {
     let mut app = fx::app();
     let effects = app.update(key('r'));
     let entry = recorded(&effects).remove(0);
-    let _ = app.update(Msg::Recorded {
-        entry,
-        result: Err("disk full".into()),
-    });
+    let _ = app.update(Msg::Recorded { entry, result: Err("disk full".into()) });
     assert_eq!(app.decisions[0], None);
     assert_eq!(app.pos, 0);
     let shown = text(&screen(&app, 80, 24));
@@ -137,10 +118,7 @@ fn reject_and_reobserve_record_their_verdicts_without_a_redshift() {
             other => panic!("{other:?}"),
         })
         .collect();
-    assert_eq!(
-        v,
-        vec![(0, Verdict::Reject, None), (1, Verdict::Reobserve, None)]
-    );
+    assert_eq!(v, vec![(0, Verdict::Reject, None), (1, Verdict::Reobserve, None)]);
     assert_eq!(app.pos, 2);
 }
 
@@ -149,18 +127,9 @@ fn class_and_subclass_set_by_hand_are_accepted_at_the_shown_redshift() {
     let mut app = fx::app();
     let e = press(
         &mut app,
-        [
-            key('c'),
-            key('3'),
-            key('B'),
-            key('A'),
-            key('L'),
-            code(KeyCode::Enter),
-        ],
+        [key('c'), key('3'), key('B'), key('A'), key('L'), code(KeyCode::Enter)],
     );
-    let Entry::Decide { decision, .. } = recorded(&e).remove(0) else {
-        panic!()
-    };
+    let Entry::Decide { decision, .. } = recorded(&e).remove(0) else { panic!() };
     assert_eq!(
         decision,
         Decision {
@@ -204,10 +173,7 @@ fn a_note_may_contain_q_and_is_cleaned_before_saving() {
     assert!(!e.contains(&Effect::Quit));
     assert_eq!(
         recorded(&e),
-        vec![Entry::Note {
-            target: 0,
-            text: "quiet[31m sky".into()
-        }]
+        vec![Entry::Note { target: 0, text: "quiet[31m sky".into() }]
     );
     assert_eq!(app.notes[0].as_deref(), Some("quiet[31m sky"));
 }
@@ -225,16 +191,10 @@ fn nudging_asks_the_core_to_remeasure_and_the_answer_replaces_the_matches() {
     let mut c = fx::loaded(0).analysis.candidates[0].clone();
     c.z = want;
     c.matched.truncate(2);
-    let _ = app.update(Msg::Remeasured {
-        target: 0,
-        z: want,
-        candidate: c,
-    });
+    let _ = app.update(Msg::Remeasured { target: 0, z: want, candidate: c });
     assert_eq!(app.shown_candidate().expect("candidate").matched.len(), 2);
     // Accepting now records the nudged redshift, marked as by hand.
-    let Entry::Decide { decision, .. } = recorded(&app.update(key('a'))).remove(0) else {
-        panic!()
-    };
+    let Entry::Decide { decision, .. } = recorded(&app.update(key('a'))).remove(0) else { panic!() };
     assert_eq!(decision.z, Some(want));
     assert!(decision.by_hand);
 }
@@ -257,11 +217,7 @@ fn a_stale_remeasurement_for_another_redshift_is_ignored() {
     let _ = app.update(key('.'));
     let old = shift_z(0.1, 25.0);
     let c = fx::loaded(0).analysis.candidates[0].clone();
-    let _ = app.update(Msg::Remeasured {
-        target: 0,
-        z: old,
-        candidate: c,
-    });
+    let _ = app.update(Msg::Remeasured { target: 0, z: old, candidate: c });
     assert!(app.nudge.as_ref().expect("nudged").candidate.is_none());
 }
 
@@ -301,19 +257,10 @@ fn previous_and_next_stop_at_the_ends() {
 #[test]
 fn candidate_cursor_moves_within_the_list_and_accept_takes_that_one() {
     let mut app = fx::app();
-    let _ = press(
-        &mut app,
-        [
-            code(KeyCode::Down),
-            code(KeyCode::Down),
-            code(KeyCode::Down),
-        ],
-    );
+    let _ = press(&mut app, [code(KeyCode::Down), code(KeyCode::Down), code(KeyCode::Down)]);
     assert_eq!(app.cand_cursor, 2);
     let _ = press(&mut app, [code(KeyCode::Up)]);
-    let Entry::Decide { decision, .. } = recorded(&app.update(key('a'))).remove(0) else {
-        panic!()
-    };
+    let Entry::Decide { decision, .. } = recorded(&app.update(key('a'))).remove(0) else { panic!() };
     assert_eq!(decision.candidate_rank, Some(2));
     assert_eq!(decision.z, Some(0.3421));
 }
@@ -330,10 +277,7 @@ fn zoom_pan_and_view_all_keep_the_view_inside_the_spectrum() {
     let _ = press(&mut app, [key('0')]);
     assert_eq!(app.view.range, None);
     let _ = press(&mut app, [key('-')]);
-    assert_eq!(
-        app.view.range, None,
-        "cannot zoom out past the whole spectrum"
-    );
+    assert_eq!(app.view.range, None, "cannot zoom out past the whole spectrum");
 }
 
 #[test]
@@ -346,20 +290,13 @@ fn jumping_line_to_line_centres_the_view_on_each_matched_line() {
     let w = c.matched[0].observed_wavelength;
     assert!(a <= w && w <= b);
     let _ = press(&mut app, [code(KeyCode::BackTab)]);
-    assert_eq!(
-        app.line_cursor,
-        Some(c.matched.len() - 1),
-        "wraps backwards"
-    );
+    assert_eq!(app.line_cursor, Some(c.matched.len() - 1), "wraps backwards");
 }
 
 #[test]
 fn a_result_for_a_target_far_from_the_cursor_is_not_kept() {
     let mut app = fx::app();
-    let _ = app.update(Msg::Loaded {
-        target: 5,
-        result: Ok(fx::loaded(5)),
-    });
+    let _ = app.update(Msg::Loaded { target: 5, result: Ok(fx::loaded(5)) });
     assert!(!app.slots.contains_key(&5));
 }
 
@@ -367,20 +304,13 @@ fn a_result_for_a_target_far_from_the_cursor_is_not_kept() {
 fn stepping_asks_the_worker_for_the_next_targets_first() {
     let mut app = fx::app();
     let e = app.update(key('n'));
-    assert_eq!(
-        e,
-        vec![Effect::Want(vec![3])],
-        "1 and 2 are loaded, 3 is next ahead"
-    );
+    assert_eq!(e, vec![Effect::Want(vec![3])], "1 and 2 are loaded, 3 is next ahead");
 }
 
 #[test]
 fn a_signal_quits_with_its_reason() {
     let mut app = fx::app();
-    assert_eq!(
-        app.update(Msg::Stop("stopped by SIGHUP".into())),
-        vec![Effect::Quit]
-    );
+    assert_eq!(app.update(Msg::Stop("stopped by SIGHUP".into())), vec![Effect::Quit]);
     assert!(app.quitting);
 }
 
@@ -472,16 +402,7 @@ fn screen_decided_target_with_note() {
 #[test]
 fn screen_zoomed_on_a_line_with_errors_and_sky() {
     let mut app = fx::app();
-    let _ = press(
-        &mut app,
-        [
-            code(KeyCode::Tab),
-            code(KeyCode::Tab),
-            key('e'),
-            key('k'),
-            key('s'),
-        ],
-    );
+    let _ = press(&mut app, [code(KeyCode::Tab), code(KeyCode::Tab), key('e'), key('k'), key('s')]);
     snap("zoomed_line_100x30", &app, 100, 30);
 }
 
@@ -515,27 +436,14 @@ fn night_theme_paints_every_cell_red_or_black_only() {
     for (w, h) in [(80, 24), (100, 30)] {
         let buf = screen(&app, w, h);
         for cell in buf.content() {
-            assert!(
-                matches!(cell.fg, Color::Red | Color::Black),
-                "fg {:?} at {:?}",
-                cell.fg,
-                cell.symbol()
-            );
-            assert!(
-                matches!(cell.bg, Color::Red | Color::Black),
-                "bg {:?} at {:?}",
-                cell.bg,
-                cell.symbol()
-            );
+            assert!(matches!(cell.fg, Color::Red | Color::Black), "fg {:?} at {:?}", cell.fg, cell.symbol());
+            assert!(matches!(cell.bg, Color::Red | Color::Black), "bg {:?} at {:?}", cell.bg, cell.symbol());
         }
     }
     // The help overlay and prompts too.
     let _ = press(&mut app, [key('?')]);
     for cell in screen(&app, 80, 24).content() {
-        assert!(
-            matches!(cell.fg, Color::Red | Color::Black)
-                && matches!(cell.bg, Color::Red | Color::Black)
-        );
+        assert!(matches!(cell.fg, Color::Red | Color::Black) && matches!(cell.bg, Color::Red | Color::Black));
     }
 }
 
@@ -544,12 +452,7 @@ fn mono_theme_sends_no_colour_at_all() {
     let mut app = fx::app();
     app.theme = Theme::builtin("mono").expect("mono");
     for cell in screen(&app, 100, 30).content() {
-        assert_eq!(
-            (cell.fg, cell.bg),
-            (Color::Reset, Color::Reset),
-            "{:?}",
-            cell.symbol()
-        );
+        assert_eq!((cell.fg, cell.bg), (Color::Reset, Color::Reset), "{:?}", cell.symbol());
     }
 }
 
@@ -558,10 +461,7 @@ fn standard_theme_marks_emission_green_and_the_selected_line_highlighted() {
     let mut app = fx::app();
     let buf = screen(&app, 100, 30);
     // Row 2 is the plot's emission-marker row (header is rows 0-1).
-    let em: Vec<Color> = (0..100)
-        .filter(|x| buf[(*x, 2)].symbol() == "v")
-        .map(|x| buf[(x, 2)].fg)
-        .collect();
+    let em: Vec<Color> = (0..100).filter(|x| buf[(*x, 2)].symbol() == "v").map(|x| buf[(x, 2)].fg).collect();
     assert!(!em.is_empty());
     assert!(em.iter().all(|c| *c == Color::LightGreen), "{em:?}");
     let _ = press(&mut app, [code(KeyCode::Tab)]);

@@ -39,9 +39,7 @@ pub struct Args {
 
 /// The demo queue file: the source tree's, else a regenerated copy.
 pub fn demo_queue() -> anyhow::Result<PathBuf> {
-    let bundled = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("demo")
-        .join("queue.csv");
+    let bundled = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("demo").join("queue.csv");
     if bundled.is_file() {
         return Ok(bundled);
     }

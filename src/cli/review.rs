@@ -101,10 +101,7 @@ pub fn run_session(session: Session, display: &Display) -> anyhow::Result<u8> {
         .or_else(|| config::no_color().then(|| "mono".to_string()))
         .or_else(|| cfg.theme.clone())
         .unwrap_or_else(|| "standard".to_string());
-    let theme = Theme::find(
-        &theme_name,
-        config::theme_dir(cfg_path.as_deref()).as_deref(),
-    )?;
+    let theme = Theme::find(&theme_name, config::theme_dir(cfg_path.as_deref()).as_deref())?;
     let mut keys = zsift::tui::keys::KeyMap::default();
     for (action, k) in &cfg.keys {
         keys.rebind(action, k)

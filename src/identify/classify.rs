@@ -114,12 +114,7 @@ pub(crate) fn classify(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_star: 
     }
     match class {
         ObjectClass::Galaxy => {
-            let lines4 = (
-                em("[N II] 6584"),
-                em("H-alpha"),
-                em("[O III] 5007"),
-                em("H-beta"),
-            );
+            let lines4 = (em("[N II] 6584"), em("H-alpha"), em("[O III] 5007"), em("H-beta"));
             if let (Some(n2), Some(ha), Some(o3), Some(hb)) = lines4 {
                 let x = (n2.flux / ha.flux).log10();
                 let y = (o3.flux / hb.flux).log10();
@@ -148,14 +143,7 @@ pub(crate) fn classify(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_star: 
             if let (Some(b), Some(k)) = (balmer, cak) {
                 derived.push(("ew_balmer_mean".to_string(), b));
                 derived.push(("ew_ca_ii_k".to_string(), k));
-                subclass = Some(
-                    if b > 1.5 * k {
-                        "early-type"
-                    } else {
-                        "late-type"
-                    }
-                    .to_string(),
-                );
+                subclass = Some(if b > 1.5 * k { "early-type" } else { "late-type" }.to_string());
             }
         }
         ObjectClass::Unknown => {}

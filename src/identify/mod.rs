@@ -219,6 +219,7 @@ pub struct Analysis {
     pub warnings: Vec<String>,
 }
 
+
 /// The built identifier: catalogue, settings, the line combs of each
 /// hypothesis, and the FFT plans and template transforms of the
 /// cross-correlation. Build once, share read-only (it is `Send + Sync`),
@@ -267,11 +268,7 @@ fn sigma_of(spectrum: &Spectrum) -> (Vec<f64>, Noise) {
         c = hi;
     }
     let fill = {
-        let mut v: Vec<f64> = robust
-            .iter()
-            .copied()
-            .filter(|x| x.is_finite() && *x > 0.0)
-            .collect();
+        let mut v: Vec<f64> = robust.iter().copied().filter(|x| x.is_finite() && *x > 0.0).collect();
         if v.is_empty() {
             1.0
         } else {
@@ -361,12 +358,7 @@ impl Identifier {
         &self.combs[i]
     }
 
-    fn prepare<'a>(
-        &self,
-        spectrum: &'a Spectrum,
-        sigma: &[f64],
-        maps: bool,
-    ) -> Option<Prepared<'a>> {
+    fn prepare<'a>(&self, spectrum: &'a Spectrum, sigma: &[f64], maps: bool) -> Option<Prepared<'a>> {
         let ivar = grid::native_ivar(
             &spectrum.wave,
             &spectrum.flux,
@@ -396,8 +388,7 @@ impl Identifier {
             g.cont_broad = grid::running_continuum(&clean, &g.ivar, (45_000.0 / v) as usize);
         }
         let lnw: Vec<f64> = spectrum.wave.iter().map(|w| w.ln()).collect();
-        let at =
-            |a: &[f64], x: f64| LogGrid::sample(a, g.index_of(x).clamp(0.0, (g.len() - 1) as f64));
+        let at = |a: &[f64], x: f64| LogGrid::sample(a, g.index_of(x).clamp(0.0, (g.len() - 1) as f64));
         let cont_narrow = lnw.iter().map(|&x| at(&g.cont_narrow, x)).collect();
         let cont_broad = lnw.iter().map(|&x| at(&g.cont_broad, x)).collect();
         Some(Prepared {
@@ -452,20 +443,8 @@ impl Identifier {
             }
         }
         let fwhm = best.map(|(_, w)| grid::NARROW_FWHM_KMS[w as usize]);
-        let fit = redshift::joint_fit(
-            &prep.native,
-            lines,
-            s0,
-            reach,
-            redshift::initial_sigma(fwhm),
-        )?;
-        Some(score::score(
-            &self.catalogue,
-            h,
-            &prep.native,
-            &fit,
-            forest_edge,
-        ))
+        let fit = redshift::joint_fit(&prep.native, lines, s0, reach, redshift::initial_sigma(fwhm))?;
+        Some(score::score(&self.catalogue, h, &prep.native, &fit, forest_edge))
     }
 
     /// Analyse one spectrum: noise, continuum, features, ranked candidates.
@@ -716,7 +695,8 @@ fn grade_of(sc: &Scored, next: f64) -> (Grade, bool) {
     let weak = sc.score < MIN_SCORE || (sc.n_sig < 2 && sc.max_snr < 6.0);
     let grade = if weak {
         Grade::Poor
-    } else if sc.n_sig >= 4 && sc.score >= 150.0 && margin >= 0.3 * sc.score && sc.penalty < 10.0 {
+    } else if sc.n_sig >= 4 && sc.score >= 150.0 && margin >= 0.3 * sc.score && sc.penalty < 10.0
+    {
         Grade::High
     } else if sc.n_sig >= 2 && sc.score >= 60.0 && margin >= 0.15 * sc.score {
         Grade::Good

@@ -550,19 +550,13 @@ pub(crate) fn vote(
     let nb = ((s_hi - s_lo) / bin).ceil() as usize + 1;
     let mut w = vec![0.0; nb];
     let mut cnt = vec![0usize; nb];
-    for f in features
-        .iter()
-        .filter(|f| f.flag.is_none() && f.wavelength > 0.0)
-    {
+    for f in features.iter().filter(|f| f.flag.is_none() && f.wavelength > 0.0) {
         let lo = f.wavelength.ln();
         for l in &cat.lines {
             let ok = matches!(
                 (f.kind, l.kind),
                 (FeatureKind::Emission, LineKind::Emission | LineKind::Both)
-                    | (
-                        FeatureKind::Absorption,
-                        LineKind::Absorption | LineKind::Both
-                    )
+                    | (FeatureKind::Absorption, LineKind::Absorption | LineKind::Both)
             );
             if !ok || !(l.wavelength > 0.0) {
                 continue;

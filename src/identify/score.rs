@@ -294,10 +294,7 @@ pub(crate) fn score(
             if depth > 0.1 && depth > 3.0 * err {
                 let bonus = (100.0 * depth).min(60.0);
                 score += bonus;
-                notes.push(format!(
-                    "Lyman-alpha forest, flux drop {:.0}%",
-                    100.0 * depth
-                ));
+                notes.push(format!("Lyman-alpha forest, flux drop {:.0}%", 100.0 * depth));
             }
         }
         let narrow_sig = lines
@@ -384,10 +381,7 @@ mod tests {
 
     #[test]
     fn a_ratio_inside_its_range_costs_nothing() {
-        assert_eq!(
-            ratio_penalty(&lm(30.0, 1.0), &lm(10.0, 1.0), (2.8, 3.2)),
-            Some(0.0)
-        );
+        assert_eq!(ratio_penalty(&lm(30.0, 1.0), &lm(10.0, 1.0), (2.8, 3.2)), Some(0.0));
     }
 
     #[test]

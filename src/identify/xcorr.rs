@@ -232,7 +232,9 @@ pub(crate) fn peaks(score: &[f64], sep: usize, max: usize, floor: f64) -> Vec<us
     let mut idx: Vec<usize> = (0..score.len())
         .filter(|&i| {
             let v = score[i];
-            v > floor && (i == 0 || score[i - 1] <= v) && (i + 1 == score.len() || score[i + 1] < v)
+            v > floor
+                && (i == 0 || score[i - 1] <= v)
+                && (i + 1 == score.len() || score[i + 1] < v)
         })
         .collect();
     idx.sort_by(|&a, &b| score[b].total_cmp(&score[a]));
@@ -293,14 +295,8 @@ impl Correlator {
     /// Plan the FFTs and transform the catalogue templates.
     pub fn new(cat: &Catalogue) -> Correlator {
         let mut planner = RealFftPlanner::<f64>::new();
-        let forward: Vec<_> = TD_SIZES
-            .iter()
-            .map(|&n| planner.plan_fft_forward(n))
-            .collect();
-        let inverse: Vec<_> = TD_SIZES
-            .iter()
-            .map(|&n| planner.plan_fft_inverse(n))
-            .collect();
+        let forward: Vec<_> = TD_SIZES.iter().map(|&n| planner.plan_fft_forward(n)).collect();
+        let inverse: Vec<_> = TD_SIZES.iter().map(|&n| planner.plan_fft_inverse(n)).collect();
         let t0 = TD_REST_MIN.ln();
         let mut templates = Vec::new();
         for hyp in [Hypothesis::Galaxy, Hypothesis::Qso, Hypothesis::Star] {

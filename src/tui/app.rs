@@ -414,9 +414,7 @@ impl App {
         if self.pos > 0 {
             v.push(self.pos - 1);
         }
-        v.retain(|i| {
-            *i < n && !matches!(self.slots.get(i), Some(Slot::Ready(_) | Slot::Failed(_)))
-        });
+        v.retain(|i| *i < n && !matches!(self.slots.get(i), Some(Slot::Ready(_) | Slot::Failed(_))));
         Effect::Want(v)
     }
 
@@ -520,11 +518,7 @@ impl App {
             return Vec::new();
         }
         let t = entry.target();
-        let name = self
-            .targets
-            .get(t)
-            .map(|x| x.name.clone())
-            .unwrap_or_default();
+        let name = self.targets.get(t).map(|x| x.name.clone()).unwrap_or_default();
         match entry {
             Entry::Decide { target, decision } => {
                 let prev = self.decisions[target].replace(decision.clone());

@@ -100,9 +100,7 @@ pub fn default_path() -> Option<PathBuf> {
 
 /// The folder user themes are looked up in: `themes/` beside the config file.
 pub fn theme_dir(config_path: Option<&Path>) -> Option<PathBuf> {
-    config_path
-        .and_then(|p| p.parent())
-        .map(|d| d.join("themes"))
+    config_path.and_then(|p| p.parent()).map(|d| d.join("themes"))
 }
 
 /// The default folder for decision logs: `<data folder>/logs`.
@@ -194,22 +192,11 @@ mod tests {
     #[test]
     fn locale_follows_lc_all_then_lc_ctype_then_lang() {
         let env = |pairs: &'static [(&'static str, &'static str)]| {
-            move |k: &str| {
-                pairs
-                    .iter()
-                    .find(|(n, _)| *n == k)
-                    .map(|(_, v)| v.to_string())
-            }
+            move |k: &str| pairs.iter().find(|(n, _)| *n == k).map(|(_, v)| v.to_string())
         };
         assert!(locale_is_utf8_from(env(&[("LANG", "en_GB.UTF-8")])));
-        assert!(!locale_is_utf8_from(env(&[
-            ("LC_ALL", "C"),
-            ("LANG", "en_GB.UTF-8")
-        ])));
-        assert!(locale_is_utf8_from(env(&[
-            ("LC_CTYPE", "de_DE.utf8"),
-            ("LANG", "C")
-        ])));
+        assert!(!locale_is_utf8_from(env(&[("LC_ALL", "C"), ("LANG", "en_GB.UTF-8")])));
+        assert!(locale_is_utf8_from(env(&[("LC_CTYPE", "de_DE.utf8"), ("LANG", "C")])));
         assert!(!locale_is_utf8_from(env(&[])));
     }
 }

@@ -110,10 +110,7 @@ impl Journal for DecisionLog {
 
 /// The review's view of a replayed log: each target's current decision and
 /// latest note, in queue order.
-pub fn state_of(
-    replay: &Replay,
-    targets: &[Target],
-) -> (Vec<Option<Decision>>, Vec<Option<String>>) {
+pub fn state_of(replay: &Replay, targets: &[Target]) -> (Vec<Option<Decision>>, Vec<Option<String>>) {
     let mut decisions = Vec::with_capacity(targets.len());
     let mut notes = Vec::with_capacity(targets.len());
     for t in targets {

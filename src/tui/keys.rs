@@ -200,10 +200,7 @@ impl Action {
 
     /// The action with this config name.
     pub fn from_config_name(name: &str) -> Option<Action> {
-        Action::ALL
-            .iter()
-            .copied()
-            .find(|a| a.config_name() == name)
+        Action::ALL.iter().copied().find(|a| a.config_name() == name)
     }
 }
 
@@ -302,7 +299,11 @@ impl Key {
             KeyCode::Char(c) => c.to_string(),
             _ => "?".to_string(),
         };
-        if self.ctrl { format!("C-{base}") } else { base }
+        if self.ctrl {
+            format!("C-{base}")
+        } else {
+            base
+        }
     }
 }
 
@@ -467,9 +468,7 @@ mod tests {
 
     #[test]
     fn key_spellings_round_trip_through_their_label() {
-        for s in [
-            "a", "A", "Enter", "Tab", "S-Tab", "C-n", "Left", "PageDown", "F1", "Space", ".",
-        ] {
+        for s in ["a", "A", "Enter", "Tab", "S-Tab", "C-n", "Left", "PageDown", "F1", "Space", "."] {
             let k = Key::parse(s).expect(s);
             let back = Key::parse(&k.label(true).replace("PgDn", "PageDown")).expect("label");
             assert_eq!(k, back, "{s}");
@@ -481,14 +480,10 @@ mod tests {
     #[test]
     fn rebinding_moves_a_key_away_from_its_old_action() {
         let mut map = KeyMap::default();
-        map.rebind("accept", &["y".into(), "n".into()])
-            .expect("rebind");
+        map.rebind("accept", &["y".into(), "n".into()]).expect("rebind");
         assert_eq!(map.action(Key::ch('n')), Some(Action::Accept));
         assert_eq!(map.action(Key::ch('a')), None);
-        assert_eq!(
-            map.keys(Action::NextTarget),
-            &[Key::code(KeyCode::PageDown)]
-        );
+        assert_eq!(map.keys(Action::NextTarget), &[Key::code(KeyCode::PageDown)]);
     }
 
     #[test]

@@ -152,9 +152,10 @@ where
                                 z,
                                 candidate,
                             }),
-                            Err(message) => {
-                                queue.push_back(Msg::RemeasureFailed { target, message })
-                            }
+                            Err(message) => queue.push_back(Msg::RemeasureFailed {
+                                target,
+                                message,
+                            }),
                         }
                     }
                 }

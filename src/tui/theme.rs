@@ -264,9 +264,8 @@ impl Theme {
                 style = style.bg(parse_color(bg).ok_or_else(|| bad(format!("colour {bg:?}")))?);
             }
             for m in &spec.mods {
-                style = style.add_modifier(
-                    parse_modifier(m).ok_or_else(|| bad(format!("attribute {m:?}")))?,
-                );
+                style = style
+                    .add_modifier(parse_modifier(m).ok_or_else(|| bad(format!("attribute {m:?}")))?);
             }
             styles.insert(role, style);
         }
@@ -360,11 +359,7 @@ mod tests {
         let t = Theme::builtin("mono").expect("mono");
         for role in Role::ALL {
             let s = t.style(role);
-            assert!(
-                s.fg.is_none() && s.bg.is_none(),
-                "{} has a colour",
-                role.key()
-            );
+            assert!(s.fg.is_none() && s.bg.is_none(), "{} has a colour", role.key());
         }
     }
 

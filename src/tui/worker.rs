@@ -55,20 +55,15 @@ fn panic_text(p: Box<dyn std::any::Any + Send>) -> String {
 
 impl Analyser for Core {
     fn load(&self, target: &Target) -> Result<Loaded, String> {
-        let spectrum =
-            crate::spectrum::read(&target.path, &self.read).map_err(|e| e.to_string())?;
-        let analysis =
-            std::panic::catch_unwind(AssertUnwindSafe(|| self.identifier.analyse(&spectrum)))
-                .map_err(|p| {
-                    format!("the identifier failed on this spectrum: {}", panic_text(p))
-                })?;
+        let spectrum = crate::spectrum::read(&target.path, &self.read).map_err(|e| e.to_string())?;
+        let analysis = std::panic::catch_unwind(AssertUnwindSafe(|| self.identifier.analyse(&spectrum)))
+            .map_err(|p| format!("the identifier failed on this spectrum: {}", panic_text(p)))?;
         Ok(Loaded { spectrum, analysis })
     }
 
     fn remeasure(&self, loaded: &Loaded, z: f64) -> Result<Candidate, String> {
         std::panic::catch_unwind(AssertUnwindSafe(|| {
-            self.identifier
-                .candidate_at(&loaded.spectrum, &loaded.analysis, z)
+            self.identifier.candidate_at(&loaded.spectrum, &loaded.analysis, z)
         }))
         .map_err(|p| format!("re-measuring failed: {}", panic_text(p)))
     }

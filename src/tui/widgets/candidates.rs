@@ -28,30 +28,12 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         ),
         None => "Candidates".to_string(),
     };
-    put(
-        buf,
-        area.x,
-        area.y,
-        &fit(&title, w as usize, app.ascii),
-        w,
-        t.style(Role::Title),
-    );
-    let body = Rect {
-        y: area.y + 1,
-        height: area.height - 1,
-        ..area
-    };
+    put(buf, area.x, area.y, &fit(&title, w as usize, app.ascii), w, t.style(Role::Title));
+    let body = Rect { y: area.y + 1, height: area.height - 1, ..area };
     let l = match app.slot() {
         Some(Slot::Ready(l)) => l,
         Some(Slot::Failed(_)) => {
-            put(
-                buf,
-                body.x,
-                body.y,
-                "no analysis (see the plot)",
-                w,
-                t.style(Role::Dim),
-            );
+            put(buf, body.x, body.y, "no analysis (see the plot)", w, t.style(Role::Dim));
             return;
         }
         _ => {
@@ -61,14 +43,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     };
     let cands = &l.analysis.candidates;
     if cands.is_empty() {
-        put(
-            buf,
-            body.x,
-            body.y,
-            "no candidates: reject, flag or set the class by hand",
-            w,
-            t.style(Role::Dim),
-        );
+        put(buf, body.x, body.y, "no candidates: reject, flag or set the class by hand", w, t.style(Role::Dim));
         return;
     }
     let accepted_rank = app
@@ -101,11 +76,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             c.score,
             c.grade.as_str(),
         );
-        let style = if here {
-            t.style(Role::Cursor)
-        } else {
-            t.style(Role::Base)
-        };
+        let style = if here { t.style(Role::Cursor) } else { t.style(Role::Base) };
         put(buf, body.x, y, &fit(&line, w as usize, app.ascii), w, style);
     }
 }

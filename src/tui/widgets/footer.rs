@@ -18,29 +18,17 @@ pub fn entries(app: &App) -> Vec<(String, String)> {
             (k(Action::Accept), "accept".into()),
             (k(Action::Reject), "reject".into()),
             (k(Action::Reobserve), "re-obs".into()),
-            (
-                pair(Action::CandidateUp, Action::CandidateDown),
-                "cand".into(),
-            ),
-            (
-                format!("{}/{}", k(Action::NextTarget), k(Action::PrevTarget)),
-                "next/prev".into(),
-            ),
+            (pair(Action::CandidateUp, Action::CandidateDown), "cand".into()),
+            (format!("{}/{}", k(Action::NextTarget), k(Action::PrevTarget)), "next/prev".into()),
             (k(Action::NextUndecided), "to do".into()),
-            (
-                pair(Action::NudgeDownFine, Action::NudgeUpFine),
-                "nudge z".into(),
-            ),
+            (pair(Action::NudgeDownFine, Action::NudgeUpFine), "nudge z".into()),
             (k(Action::SetClass), "class".into()),
             (k(Action::Note), "note".into()),
             (k(Action::Undo), "undo".into()),
             (k(Action::Help), "all keys".into()),
             (k(Action::Quit), "quit".into()),
         ],
-        Mode::Help => vec![
-            ("any key".into(), "back".into()),
-            (k(Action::Quit), "quit".into()),
-        ],
+        Mode::Help => vec![("any key".into(), "back".into()), (k(Action::Quit), "quit".into())],
         Mode::ClassPick => {
             let mut v: Vec<(String, String)> = CLASS_KEYS
                 .iter()
@@ -63,25 +51,14 @@ pub fn entries(app: &App) -> Vec<(String, String)> {
 pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let t = &app.theme;
     let mut all = entries(app);
-    let keep = if app.mode == Mode::Browse {
-        all.split_off(all.len() - 2)
-    } else {
-        Vec::new()
-    };
+    let keep = if app.mode == Mode::Browse { all.split_off(all.len() - 2) } else { Vec::new() };
     let width = |e: &(String, String)| (e.0.chars().count() + e.1.chars().count() + 2) as u16;
     let right_w: u16 = keep.iter().map(width).sum();
     let mut x = area.x;
     let limit = area.right().saturating_sub(right_w);
     let draw = |buf: &mut Buffer, x: &mut u16, e: &(String, String)| {
         *x += put(buf, *x, area.y, &e.0, area.right() - *x, t.style(Role::Key));
-        *x += put(
-            buf,
-            *x,
-            area.y,
-            &format!(" {} ", e.1),
-            area.right() - *x,
-            t.style(Role::Dim),
-        );
+        *x += put(buf, *x, area.y, &format!(" {} ", e.1), area.right() - *x, t.style(Role::Dim));
     };
     for e in &all {
         if x + width(e) > limit {

@@ -18,46 +18,18 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     x += put(buf, x, area.y, &pos, w, t.style(Role::Title));
     let pct = if n == 0 { 0 } else { 100 * app.decided() / n };
     let progress = format!(" {} done {pct:>3}% ", app.decided());
-    x += put(
-        buf,
-        x,
-        area.y,
-        &progress,
-        area.right() - x,
-        t.style(Role::Dim),
-    );
+    x += put(buf, x, area.y, &progress, area.right() - x, t.style(Role::Dim));
     let Some(target) = app.targets.get(app.pos) else {
-        put(
-            buf,
-            x,
-            area.y,
-            "the queue is empty",
-            area.right() - x,
-            t.style(Role::Warning),
-        );
+        put(buf, x, area.y, "the queue is empty", area.right() - x, t.style(Role::Warning));
         return;
     };
-    x += put(
-        buf,
-        x,
-        area.y,
-        &fit(&target.name, 24, app.ascii),
-        area.right().saturating_sub(x),
-        t.style(Role::Title),
-    );
+    x += put(buf, x, area.y, &fit(&target.name, 24, app.ascii), area.right().saturating_sub(x), t.style(Role::Title));
     let snr = match app.slot() {
         Some(Slot::Ready(l)) => format!(" S/N {:>5.1} ", l.analysis.noise.median_snr),
         Some(Slot::Failed(_)) => " S/N   -   ".to_string(),
         _ => " S/N  ...  ".to_string(),
     };
-    x += put(
-        buf,
-        x,
-        area.y,
-        &snr,
-        area.right().saturating_sub(x),
-        t.style(Role::Base),
-    );
+    x += put(buf, x, area.y, &snr, area.right().saturating_sub(x), t.style(Role::Base));
     let file = crate::text::clean(&target.path.display().to_string());
     let room = area.right().saturating_sub(x) as usize;
     // Show the end of a long path: the file name matters most.
@@ -68,21 +40,11 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     } else {
         file
     };
-    put(
-        buf,
-        x,
-        area.y,
-        &shown,
-        area.right().saturating_sub(x),
-        t.style(Role::Dim),
-    );
+    put(buf, x, area.y, &shown, area.right().saturating_sub(x), t.style(Role::Dim));
 
     // Row 1: decision state, then status (or the first warning).
     let y = area.y + 1;
-    let (role, text) = match (
-        &app.pending,
-        app.decisions.get(app.pos).and_then(|d| d.as_ref()),
-    ) {
+    let (role, text) = match (&app.pending, app.decisions.get(app.pos).and_then(|d| d.as_ref())) {
         (Some(e), _) if e.target() == app.pos => (Role::Dim, "saving...".to_string()),
         (_, None) => (Role::Undecided, "undecided".to_string()),
         (_, Some(d)) => (
@@ -98,14 +60,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     x += put(buf, x, y, &format!("{text} "), w, t.style(role));
     if let Some(note) = app.notes.get(app.pos).and_then(|n| n.as_ref()) {
         let s = format!("note: {} ", fit(note, 20, app.ascii).trim_end());
-        x += put(
-            buf,
-            x,
-            y,
-            &s,
-            area.right().saturating_sub(x),
-            t.style(Role::Dim),
-        );
+        x += put(buf, x, y, &s, area.right().saturating_sub(x), t.style(Role::Dim));
     }
     let status = app.status.as_ref().map(|(k, s)| {
         (
@@ -126,14 +81,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     });
     if let Some((role, s)) = status.or(warning) {
         let room = area.right().saturating_sub(x);
-        put(
-            buf,
-            x,
-            y,
-            &fit(&s, room as usize, app.ascii),
-            room,
-            t.style(role),
-        );
+        put(buf, x, y, &fit(&s, room as usize, app.ascii), room, t.style(role));
     }
 }
 

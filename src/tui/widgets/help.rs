@@ -24,24 +24,12 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let h = (per_col + 3).min(area.height as usize) as u16;
     let x0 = area.x + (area.width - w) / 2;
     let y0 = area.y + (area.height - h) / 2;
-    let panel = Rect {
-        x: x0,
-        y: y0,
-        width: w,
-        height: h,
-    };
+    let panel = Rect { x: x0, y: y0, width: w, height: h };
     buf.set_style(panel, style);
     for y in panel.top()..panel.bottom() {
         put(buf, panel.x, y, &" ".repeat(w as usize), w, style);
     }
-    put(
-        buf,
-        x0 + 1,
-        y0,
-        "Keys (any key closes)",
-        w - 2,
-        t.style(Role::Title).patch(style),
-    );
+    put(buf, x0 + 1, y0, "Keys (any key closes)", w - 2, t.style(Role::Title).patch(style));
     for (i, (keys, desc)) in rows.iter().enumerate() {
         let col = i / per_col;
         let row = i % per_col;
@@ -50,22 +38,8 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             continue;
         }
         let x = x0 + 1 + (col * col_w) as u16;
-        put(
-            buf,
-            x,
-            y,
-            &fit(keys, key_w, app.ascii),
-            key_w as u16,
-            t.style(Role::Key).patch(style),
-        );
+        put(buf, x, y, &fit(keys, key_w, app.ascii), key_w as u16, t.style(Role::Key).patch(style));
         let dw = col_w.saturating_sub(key_w + 1);
-        put(
-            buf,
-            x + key_w as u16 + 1,
-            y,
-            &fit(desc, dw, app.ascii),
-            dw as u16,
-            style,
-        );
+        put(buf, x + key_w as u16 + 1, y, &fit(desc, dw, app.ascii), dw as u16, style);
     }
 }

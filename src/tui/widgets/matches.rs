@@ -19,14 +19,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         Some(c) => format!("Lines at z={:.5} ({})", c.z, c.class.as_str()),
         None => "Lines".to_string(),
     };
-    put(
-        buf,
-        area.x,
-        area.y,
-        &fit(&title, w, app.ascii),
-        area.width,
-        t.style(Role::Title),
-    );
+    put(buf, area.x, area.y, &fit(&title, w, app.ascii), area.width, t.style(Role::Title));
     if area.height < 2 {
         return;
     }
@@ -34,26 +27,12 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         "{:<13} {:>7} {:>7} {:>5} {:>5} {:>5} {:>6}",
         "line", "rest", "obs", "dv", "S/N", "FWHM", "EW"
     );
-    put(
-        buf,
-        area.x,
-        area.y + 1,
-        &fit(&head, w, app.ascii),
-        area.width,
-        t.style(Role::Dim),
-    );
+    put(buf, area.x, area.y + 1, &fit(&head, w, app.ascii), area.width, t.style(Role::Dim));
     let body_y = area.y + 2;
     let rows = area.height.saturating_sub(2) as usize;
     let Some(c) = c else {
         if let Some(Slot::Ready(_)) = app.slot() {
-            put(
-                buf,
-                area.x,
-                body_y,
-                "no candidate chosen",
-                area.width,
-                t.style(Role::Dim),
-            );
+            put(buf, area.x, body_y, "no candidate chosen", area.width, t.style(Role::Dim));
         }
         return;
     };
@@ -75,14 +54,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     } else {
         0
     };
-    for (row, (i, m)) in c
-        .matched
-        .iter()
-        .enumerate()
-        .skip(first)
-        .take(rows)
-        .enumerate()
-    {
+    for (row, (i, m)) in c.matched.iter().enumerate().skip(first).take(rows).enumerate() {
         let name = fit(&crate::text::clean(&m.line), 13, app.ascii);
         let line = format!(
             "{name} {:>7.1} {:>7.1} {:>+5.0} {:>5.1} {:>5.0} {:>6.1}",
@@ -93,13 +65,6 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         } else {
             t.style(Role::Base)
         };
-        put(
-            buf,
-            area.x,
-            body_y + row as u16,
-            &fit(&line, w, app.ascii),
-            area.width,
-            style,
-        );
+        put(buf, area.x, body_y + row as u16, &fit(&line, w, app.ascii), area.width, style);
     }
 }

@@ -50,9 +50,10 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     if area.width >= WIDE {
         let [plot_area, lists] =
             Layout::vertical([Constraint::Min(6), Constraint::Length(7)]).areas(body);
-        let [cands, lines] = Layout::horizontal([Constraint::Fill(1), Constraint::Length(54)])
-            .spacing(1)
-            .areas(lists);
+        let [cands, lines] =
+            Layout::horizontal([Constraint::Fill(1), Constraint::Length(54)])
+                .spacing(1)
+                .areas(lists);
         plot::render(app, plot_area, buf);
         candidates::render(app, cands, buf);
         matches::render(app, lines, buf);
@@ -88,25 +89,12 @@ fn too_small(app: &App, area: Rect, buf: &mut Buffer) {
         if y >= area.bottom() {
             break;
         }
-        buf.set_stringn(
-            area.x,
-            y,
-            l,
-            area.width as usize,
-            app.theme.style(Role::Warning),
-        );
+        buf.set_stringn(area.x, y, l, area.width as usize, app.theme.style(Role::Warning));
     }
 }
 
 /// Write `text` at (x, y) clipped to `width` cells; returns the cells used.
-pub(crate) fn put(
-    buf: &mut Buffer,
-    x: u16,
-    y: u16,
-    text: &str,
-    width: u16,
-    style: ratatui::style::Style,
-) -> u16 {
+pub(crate) fn put(buf: &mut Buffer, x: u16, y: u16, text: &str, width: u16, style: ratatui::style::Style) -> u16 {
     if width == 0 {
         return 0;
     }

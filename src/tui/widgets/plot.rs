@@ -131,9 +131,7 @@ fn smooth(flux: &[f64], mask: &[bool], width: usize) -> Vec<f64> {
     let n = flux.len();
     let good = |i: usize| mask.get(i).copied().unwrap_or(false) && flux[i].is_finite();
     if width <= 1 {
-        return (0..n)
-            .map(|i| if good(i) { flux[i] } else { f64::NAN })
-            .collect();
+        return (0..n).map(|i| if good(i) { flux[i] } else { f64::NAN }).collect();
     }
     let half = width / 2;
     (0..n)
@@ -225,42 +223,17 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let loaded = match app.slot() {
         Some(Slot::Ready(l)) => l,
         Some(Slot::Failed(e)) => {
-            put(
-                buf,
-                area.x,
-                area.y + 1,
-                "This target could not be read or analysed:",
-                area.width,
-                t.style(Role::Warning),
-            );
+            put(buf, area.x, area.y + 1, "This target could not be read or analysed:", area.width, t.style(Role::Warning));
             let w = area.width as usize;
             let chars: Vec<char> = e.chars().collect();
-            for (i, chunk) in chars
-                .chunks(w.max(1))
-                .take(area.height as usize - 3)
-                .enumerate()
-            {
+            for (i, chunk) in chars.chunks(w.max(1)).take(area.height as usize - 3).enumerate() {
                 let s: String = chunk.iter().collect();
-                put(
-                    buf,
-                    area.x,
-                    area.y + 2 + i as u16,
-                    &s,
-                    area.width,
-                    t.style(Role::Base),
-                );
+                put(buf, area.x, area.y + 2 + i as u16, &s, area.width, t.style(Role::Base));
             }
             return;
         }
         _ => {
-            put(
-                buf,
-                area.x,
-                area.y + area.height / 2,
-                "reading and analysing...",
-                area.width,
-                t.style(Role::Dim),
-            );
+            put(buf, area.x, area.y + area.height / 2, "reading and analysing...", area.width, t.style(Role::Dim));
             return;
         }
     };
@@ -273,12 +246,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         return;
     }
     let top = area.y;
-    let curve = Rect {
-        x: area.x,
-        y: area.y + 1,
-        width: area.width,
-        height: area.height - 3,
-    };
+    let curve = Rect { x: area.x, y: area.y + 1, width: area.width, height: area.height - 3 };
     let abs_row = area.bottom() - 2;
     let axis_row = area.bottom() - 1;
     let cw = curve.width as usize;
@@ -294,11 +262,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
 
     // Vertical range: robust percentiles of the flux, widened to include
     // every real feature's peak so emission lines are never clipped.
-    let mut vals: Vec<f64> = flux[i0..i1]
-        .iter()
-        .copied()
-        .filter(|v| v.is_finite())
-        .collect();
+    let mut vals: Vec<f64> = flux[i0..i1].iter().copied().filter(|v| v.is_finite()).collect();
     let (mut ymin, mut ymax) = match (percentile(&mut vals, 0.005), percentile(&mut vals, 0.995)) {
         (Some(a), Some(b)) => (a, b),
         _ => (0.0, 1.0),
@@ -311,10 +275,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     }
     for f in &a.features {
         if f.flag.is_none() && f.wavelength >= lo && f.wavelength <= hi {
-            let i = s
-                .wave
-                .partition_point(|w| *w < f.wavelength)
-                .min(s.len().saturating_sub(1));
+            let i = s.wave.partition_point(|w| *w < f.wavelength).min(s.len().saturating_sub(1));
             if let Some(c) = cont.get(i).filter(|c| c.is_finite()) {
                 let peak = c + f.amplitude;
                 if peak.is_finite() {
@@ -358,11 +319,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     if cont.len() == s.len() {
         series(&|i| cont[i], &mut g_cont);
     }
-    let sigma = if a.sigma.len() == s.len() {
-        Some(&a.sigma)
-    } else {
-        s.sigma.as_ref()
-    };
+    let sigma = if a.sigma.len() == s.len() { Some(&a.sigma) } else { s.sigma.as_ref() };
     if app.view.errors
         && let Some(sig) = sigma
     {
@@ -373,11 +330,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         && let Some(sky) = &s.sky
     {
         // The sky gets its own scale, into the lower half of the panel.
-        let sv: Vec<f64> = sky[i0..i1]
-            .iter()
-            .copied()
-            .filter(|v| v.is_finite())
-            .collect();
+        let sv: Vec<f64> = sky[i0..i1].iter().copied().filter(|v| v.is_finite()).collect();
         let smin = sv.iter().copied().fold(f64::INFINITY, f64::min);
         let smax = sv.iter().copied().fold(f64::NEG_INFINITY, f64::max);
         if smax > smin {
@@ -572,16 +525,8 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let info = format!(
         "{}{}{}{}",
         if ascii { " A" } else { " Å" },
-        if width > 1 {
-            format!(" smooth {width}")
-        } else {
-            String::new()
-        },
-        if app.view.range.is_some() {
-            " zoom"
-        } else {
-            ""
-        },
+        if width > 1 { format!(" smooth {width}") } else { String::new() },
+        if app.view.range.is_some() { " zoom" } else { "" },
         if app.view.errors { " err" } else { "" },
     );
     let info_w = info.chars().count() as u16;
@@ -591,11 +536,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let mut last_end = area.x;
     while w <= hi {
         let x = area.x + col(w);
-        let label = if step >= 1.0 {
-            format!("{w:.0}")
-        } else {
-            format!("{w:.1}")
-        };
+        let label = if step >= 1.0 { format!("{w:.0}") } else { format!("{w:.1}") };
         let end = x + label.chars().count() as u16;
         if x >= last_end && end <= ticks_right {
             put(buf, x, axis_row, &label, end - x, t.style(Role::Axis));
@@ -603,14 +544,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         }
         w += step;
     }
-    put(
-        buf,
-        ticks_right + 1,
-        axis_row,
-        &info,
-        info_w,
-        t.style(Role::Dim),
-    );
+    put(buf, ticks_right + 1, axis_row, &info, info_w, t.style(Role::Dim));
 }
 
 #[cfg(test)]

@@ -22,10 +22,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             format!("Subclass for {} (optional), Enter accepts", class.as_str()),
             format!("> {text}_"),
         ),
-        Mode::Note { text } => (
-            "Note for this target, Enter saves".to_string(),
-            format!("> {text}_"),
-        ),
+        Mode::Note { text } => ("Note for this target, Enter saves".to_string(), format!("> {text}_")),
         _ => return,
     };
     let t = &app.theme;
@@ -36,21 +33,10 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     for dy in 0..4 {
         put(buf, x, y + dy, &" ".repeat(w as usize), w, style);
     }
-    put(
-        buf,
-        x + 1,
-        y,
-        &fit(&title, (w - 2) as usize, app.ascii),
-        w - 2,
-        t.style(Role::Title).patch(style),
-    );
+    put(buf, x + 1, y, &fit(&title, (w - 2) as usize, app.ascii), w - 2, t.style(Role::Title).patch(style));
     // Long text scrolls: keep its end (where the typing is) visible.
     let inner = (w - 2) as usize;
     let n = body.chars().count();
-    let shown: String = if n > inner {
-        body.chars().skip(n - inner).collect()
-    } else {
-        body
-    };
+    let shown: String = if n > inner { body.chars().skip(n - inner).collect() } else { body };
     put(buf, x + 1, y + 2, &shown, w - 2, style);
 }
