@@ -8,57 +8,20 @@
 
 use std::path::PathBuf;
 use std::sync::Arc;
-use zsift::identify::{
-    Analysis, Candidate, Feature, FeatureFlag, FeatureKind, Grade, Match, Noise,
-};
+use zsift::identify::{Analysis, Candidate, Feature, FeatureFlag, FeatureKind, Grade, Match, Noise};
 use zsift::lines::{Catalogue, Foreground, ForegroundKind, Line, LineKind, ObjectClass, Width};
 use zsift::spectrum::{Metadata, Spectrum};
 use zsift::tui::app::{App, Loaded, Msg, Slot, Target};
 
 /// Rest vacuum wavelengths (from memory; display only).
 pub const LINES: [(&str, f64, LineKind, &[ObjectClass]); 7] = [
-    (
-        "[O II] 3728",
-        3728.48,
-        LineKind::Emission,
-        &[ObjectClass::Galaxy, ObjectClass::Qso],
-    ),
-    (
-        "H-beta",
-        4862.68,
-        LineKind::Both,
-        &[ObjectClass::Galaxy, ObjectClass::Star],
-    ),
-    (
-        "[O III] 4960",
-        4960.30,
-        LineKind::Emission,
-        &[ObjectClass::Galaxy],
-    ),
-    (
-        "[O III] 5008",
-        5008.24,
-        LineKind::Emission,
-        &[ObjectClass::Galaxy],
-    ),
-    (
-        "Na D",
-        5895.6,
-        LineKind::Absorption,
-        &[ObjectClass::Galaxy, ObjectClass::Star],
-    ),
-    (
-        "H-alpha",
-        6564.61,
-        LineKind::Both,
-        &[ObjectClass::Galaxy, ObjectClass::Star],
-    ),
-    (
-        "[N II] 6585",
-        6585.27,
-        LineKind::Emission,
-        &[ObjectClass::Galaxy],
-    ),
+    ("[O II] 3728", 3728.48, LineKind::Emission, &[ObjectClass::Galaxy, ObjectClass::Qso]),
+    ("H-beta", 4862.68, LineKind::Both, &[ObjectClass::Galaxy, ObjectClass::Star]),
+    ("[O III] 4960", 4960.30, LineKind::Emission, &[ObjectClass::Galaxy]),
+    ("[O III] 5008", 5008.24, LineKind::Emission, &[ObjectClass::Galaxy]),
+    ("Na D", 5895.6, LineKind::Absorption, &[ObjectClass::Galaxy, ObjectClass::Star]),
+    ("H-alpha", 6564.61, LineKind::Both, &[ObjectClass::Galaxy, ObjectClass::Star]),
+    ("[N II] 6585", 6585.27, LineKind::Emission, &[ObjectClass::Galaxy]),
 ];
 
 /// The small catalogue the fixtures use.
@@ -99,9 +62,7 @@ pub fn catalogue() -> Catalogue {
 
 /// A small deterministic pseudo-random sequence (no dependency, no seed files).
 fn noise(i: usize, k: u64) -> f64 {
-    let mut x = (i as u64)
-        .wrapping_mul(6364136223846793005)
-        .wrapping_add(1442695040888963407 ^ k);
+    let mut x = (i as u64).wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407 ^ k);
     x ^= x >> 33;
     x = x.wrapping_mul(0xff51afd7ed558ccd);
     x ^= x >> 33;
@@ -113,20 +74,13 @@ fn noise(i: usize, k: u64) -> f64 {
 pub fn spectrum(name: &str, z: f64, seed: u64) -> Spectrum {
     let n = 2000;
     let wave: Vec<f64> = (0..n).map(|i| 4000.0 + 2.5 * i as f64).collect();
-    let cont: Vec<f64> = wave
-        .iter()
-        .map(|w| 1.0 + 0.3 * (w - 4000.0) / 5000.0)
-        .collect();
+    let cont: Vec<f64> = wave.iter().map(|w| 1.0 + 0.3 * (w - 4000.0) / 5000.0).collect();
     let mut flux = cont.clone();
     for (i, w) in wave.iter().enumerate() {
         for (_, rest, kind, _) in LINES {
             let c = rest * (1.0 + z);
             let g = (-0.5 * ((w - c) / 4.0).powi(2)).exp();
-            flux[i] += if kind == LineKind::Absorption {
-                -0.4 * g
-            } else {
-                1.5 * g
-            };
+            flux[i] += if kind == LineKind::Absorption { -0.4 * g } else { 1.5 * g };
         }
         if (7590.0..7700.0).contains(w) {
             flux[i] *= 0.7;
@@ -140,20 +94,12 @@ pub fn spectrum(name: &str, z: f64, seed: u64) -> Spectrum {
         ..Metadata::default()
     };
     let mut s = Spectrum::new(wave.clone(), flux, Some(sigma), meta).expect("valid spectrum");
-    s.sky = Some(
-        wave.iter()
-            .map(|w| 0.2 + if (w - 5579.0).abs() < 5.0 { 3.0 } else { 0.0 })
-            .collect(),
-    );
+    s.sky = Some(wave.iter().map(|w| 0.2 + if (w - 5579.0).abs() < 5.0 { 3.0 } else { 0.0 }).collect());
     s
 }
 
 fn feature(w: f64, kind: FeatureKind, snr: f64, flag: Option<FeatureFlag>) -> Feature {
-    let amp = if kind == FeatureKind::Emission {
-        1.5
-    } else {
-        -0.4
-    };
+    let amp = if kind == FeatureKind::Emission { 1.5 } else { -0.4 };
     Feature {
         wavelength: w,
         wavelength_err: 0.3,
@@ -179,11 +125,7 @@ pub fn analysis(s: &Spectrum, z: f64) -> Analysis {
         if obs < s.wave[0] || obs > s.wave[s.len() - 1] {
             continue;
         }
-        let fk = if kind == LineKind::Absorption {
-            FeatureKind::Absorption
-        } else {
-            FeatureKind::Emission
-        };
+        let fk = if kind == LineKind::Absorption { FeatureKind::Absorption } else { FeatureKind::Emission };
         features.push(feature(obs, fk, 20.0, None));
         matched.push(Match {
             line: name.to_string(),
@@ -191,32 +133,15 @@ pub fn analysis(s: &Spectrum, z: f64) -> Analysis {
             observed_wavelength: obs,
             offset_kms: 3.0,
             feature: Some(features.len() - 1),
-            kind: if kind == LineKind::Absorption {
-                LineKind::Absorption
-            } else {
-                LineKind::Emission
-            },
+            kind: if kind == LineKind::Absorption { LineKind::Absorption } else { LineKind::Emission },
             snr: 20.0,
             fwhm_kms: 300.0,
-            ew: if kind == LineKind::Absorption {
-                2.1
-            } else {
-                -12.5
-            },
+            ew: if kind == LineKind::Absorption { 2.1 } else { -12.5 },
         });
     }
     features.push(feature(6100.0, FeatureKind::Emission, 6.0, None));
-    features.push(feature(
-        5579.0,
-        FeatureKind::Emission,
-        9.0,
-        Some(FeatureFlag::Sky),
-    ));
-    let cont: Vec<f64> = s
-        .wave
-        .iter()
-        .map(|w| 1.0 + 0.3 * (w - 4000.0) / 5000.0)
-        .collect();
+    features.push(feature(5579.0, FeatureKind::Emission, 9.0, Some(FeatureFlag::Sky)));
+    let cont: Vec<f64> = s.wave.iter().map(|w| 1.0 + 0.3 * (w - 4000.0) / 5000.0).collect();
     let best = Candidate {
         rank: 1,
         z,
@@ -272,11 +197,7 @@ pub fn analysis(s: &Spectrum, z: f64) -> Analysis {
         c.velocity_kms = zsift::physics::constants::C_KM_S * (s2 - 1.0) / (s2 + 1.0);
     }
     Analysis {
-        noise: Noise {
-            median_snr: 21.4,
-            error_ratio: Some(1.02),
-            estimated: false,
-        },
+        noise: Noise { median_snr: 21.4, error_ratio: Some(1.02), estimated: false },
         sigma: vec![0.05; s.len()],
         continuum: cont,
         features,
@@ -304,10 +225,7 @@ pub fn loaded(i: usize) -> Arc<Loaded> {
     let name = format!("Kestrel-{:02}", i + 1);
     let s = spectrum(&name, ZS[i], i as u64);
     let a = analysis(&s, ZS[i]);
-    Arc::new(Loaded {
-        spectrum: s,
-        analysis: a,
-    })
+    Arc::new(Loaded { spectrum: s, analysis: a })
 }
 
 /// An app over the fixture queue, started, with its current target loaded
@@ -328,9 +246,6 @@ pub fn deliver(app: &mut App) {
         .filter(|i| *i + 2 >= app.pos && *i <= app.pos + 3)
         .collect();
     for i in waiting {
-        let _ = app.update(Msg::Loaded {
-            target: i,
-            result: Ok(loaded(i)),
-        });
+        let _ = app.update(Msg::Loaded { target: i, result: Ok(loaded(i)) });
     }
 }
