@@ -253,3 +253,16 @@ fn binary_garbage_is_refused_as_not_a_spectrum() {
         .to_string();
     assert!(e.contains("g.dat") && e.contains("binary"), "{e}");
 }
+
+#[test]
+fn ecsv_style_column_units_and_a_medium_stated_in_words_are_honoured() {
+    let text = format!(
+        "# %ECSV 1.0\n# ---\n# datatype:\n# - {{name: wave, unit: nm, datatype: float64}}\n\
+         # - {{name: flux, datatype: float64}}\n# Wavelengths in air.\nwave flux\n{}",
+        rows(" ", 600.0, 0.1, false)
+    );
+    let s = load(&text);
+    assert_eq!(s.meta.medium_declared, Some(Medium::Air));
+    assert_eq!(s.wave[0], air_to_vacuum(6000.0));
+    assert_eq!(s.meta.wave_unit.as_deref(), Some("nm"));
+}

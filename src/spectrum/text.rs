@@ -26,6 +26,10 @@ use std::path::Path;
 /// one is binary data or a broken export, and is refused before splitting.
 pub const MAX_LINE: usize = 64 * 1024;
 
+/// Largest text spectrum accepted (bytes): a million-pixel spectrum is about
+/// 40 MB of text; anything larger is not a 1-D spectrum.
+pub const MAX_TEXT_BYTES: usize = 64 * 1024 * 1024;
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Delim {
     Comma,
@@ -43,28 +47,23 @@ fn split(line: &str, d: Delim) -> Vec<&str> {
 
 fn parse_num(cell: &str) -> Option<f64> {
     let c = cell.trim();
-    let c = c.strip_prefix('+').unwrap_or(c);
+    // Fast path: Rust's parser takes decimal and exponent forms, `inf`,
+    // `infinity` and `nan` in any case, with an optional sign.
+    if let Ok(v) = c.parse::<f64>() {
+        return Some(v);
+    }
     match c.to_ascii_lowercase().as_str() {
-        "nan" | "-nan" | "null" | "na" | "" => return Some(f64::NAN),
-        "inf" | "infinity" => return Some(f64::INFINITY),
-        "-inf" | "-infinity" => return Some(f64::NEG_INFINITY),
+        "-nan" | "+nan" | "null" | "na" | "" => return Some(f64::NAN),
         _ => {}
     }
     // Fortran-style D exponents are common in old exports.
-    let fixed;
-    let c = if c.contains(['d', 'D']) {
-        fixed = c.replace(['d', 'D'], "e");
-        fixed.as_str()
-    } else {
-        c
-    };
-    if !c
-        .bytes()
-        .all(|b| b.is_ascii_digit() || matches!(b, b'.' | b'-' | b'+' | b'e' | b'E'))
+    if c.contains(['d', 'D'])
+        && c.bytes()
+            .all(|b| b.is_ascii_digit() || matches!(b, b'.' | b'-' | b'+' | b'd' | b'D'))
     {
-        return None;
+        return c.replace(['d', 'D'], "e").parse::<f64>().ok();
     }
-    c.parse::<f64>().ok()
+    None
 }
 
 /// True when `cell` is a number (the empty cell and `nan` excluded, so a blank
@@ -87,6 +86,15 @@ pub fn read_bytes(
     if bytes.iter().all(|b| b.is_ascii_whitespace()) {
         return Err(malformed("whole file".into(), "the file is empty".into()));
     }
+    if bytes.len() > MAX_TEXT_BYTES {
+        return Err(malformed(
+            "whole file".into(),
+            format!(
+                "{} bytes is more than the {MAX_TEXT_BYTES} accepted for a text spectrum",
+                bytes.len()
+            ),
+        ));
+    }
     let text = match std::str::from_utf8(bytes) {
         Ok(t) => t,
         Err(e) => {
@@ -107,11 +115,14 @@ pub fn read_bytes(
     let mut medium: Option<Medium> = None;
     let mut unit: Option<String> = None;
     let mut last_comment: Option<&str> = None;
+    // Units declared per column in an ECSV-style YAML header.
+    let mut column_units: Vec<(String, String)> = Vec::new();
     let mut header: Option<(usize, Vec<String>)> = None;
     let mut delim: Option<Delim> = None;
     let mut ncol = 0usize;
     let mut first_data_line = 0usize;
-    let mut rows: Vec<Vec<f64>> = Vec::new();
+    // Cells of all data rows, row after row (`ncol` per row).
+    let mut rows: Vec<f64> = Vec::new();
     let mut lines_of_rows: Vec<usize> = Vec::new();
 
     for (idx, raw_line) in text.split('\n').enumerate() {
@@ -139,7 +150,11 @@ pub fn read_bytes(
         if let Some(c) = t.strip_prefix('#') {
             if rows.is_empty() && header.is_none() {
                 let c = c.trim();
-                if let Some((k, v)) = split_key_value(c) {
+                if let Some((name, u)) = ecsv_column_unit(c) {
+                    column_units.push((name, u));
+                } else if let Some(m) = medium_in_words(c) {
+                    medium.get_or_insert(m);
+                } else if let Some((k, v)) = split_key_value(c) {
                     apply_meta(&k, v, &mut meta, &mut medium, &mut unit, lineno)?;
                 } else {
                     last_comment = Some(c);
@@ -186,10 +201,9 @@ pub fn read_bytes(
                 ),
             ));
         }
-        let mut row = Vec::with_capacity(ncol);
         for (j, c) in cells.iter().enumerate() {
             match parse_num(c) {
-                Some(v) => row.push(v),
+                Some(v) => rows.push(v),
                 None => {
                     return Err(malformed(
                         format!("line {lineno}, column {}", j + 1),
@@ -198,7 +212,6 @@ pub fn read_bytes(
                 }
             }
         }
-        rows.push(row);
         lines_of_rows.push(lineno);
     }
 
@@ -251,6 +264,12 @@ pub fn read_bytes(
         Some(names) => {
             for (j, n) in names.iter().enumerate() {
                 let (base, u) = columns::split_unit(n);
+                let u = u.or_else(|| {
+                    column_units
+                        .iter()
+                        .find(|(c, _)| c.eq_ignore_ascii_case(n.trim()))
+                        .map(|(_, u)| u.clone())
+                });
                 match columns::role_of(&base) {
                     Some(r @ (Role::Wave | Role::WaveAir | Role::WaveVacuum | Role::LogWave))
                         if wave_col.is_none() =>
@@ -316,7 +335,13 @@ pub fn read_bytes(
             "no wavelength or flux column".into(),
         ));
     };
-    let col = |j: usize| rows.iter().map(|r| r[j]).collect::<Vec<f64>>();
+    let col = |j: usize| {
+        rows.iter()
+            .skip(j)
+            .step_by(ncol)
+            .copied()
+            .collect::<Vec<f64>>()
+    };
 
     // Units: the column name wins over a `# unit:` comment.
     let unit_text = wave_unit_from_name.or(unit);
@@ -426,6 +451,48 @@ pub(crate) fn guess_unit(wave: &[f64], warnings: &mut Vec<String>) -> f64 {
         "no wavelength unit given; values up to {mid} taken as {name}"
     ));
     factor
+}
+
+/// `- {name: wavelength, unit: nm, datatype: float64}` (an ECSV column
+/// description) -> (`wavelength`, `nm`).
+fn ecsv_column_unit(c: &str) -> Option<(String, String)> {
+    let body = c
+        .strip_prefix('-')?
+        .trim()
+        .strip_prefix('{')?
+        .strip_suffix('}')?;
+    let mut name = None;
+    let mut unit = None;
+    for part in body.split(',') {
+        if let Some((k, v)) = part.split_once(':') {
+            let v = v.trim().trim_matches(['"', '\'']).to_string();
+            match k.trim() {
+                "name" => name = Some(v),
+                "unit" => unit = Some(v),
+                _ => {}
+            }
+        }
+    }
+    Some((name?, unit?))
+}
+
+/// A free-text comment that states the medium: "air wavelengths",
+/// "wavelengths in vacuum", "vacuum wavelength scale".
+fn medium_in_words(c: &str) -> Option<Medium> {
+    let l = c.to_ascii_lowercase();
+    if l.contains(':') || l.contains('=') {
+        return None;
+    }
+    let said = |m: &str| {
+        l.contains(&format!("{m} wavelength"))
+            || l.contains(&format!("wavelengths in {m}"))
+            || l.contains(&format!("wavelength in {m}"))
+    };
+    match (said("air"), said("vacuum")) {
+        (true, false) => Some(Medium::Air),
+        (false, true) => Some(Medium::Vacuum),
+        _ => None,
+    }
 }
 
 fn split_key_value(c: &str) -> Option<(String, &str)> {
