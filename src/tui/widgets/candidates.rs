@@ -95,7 +95,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         };
         let reason = crate::text::clean(&c.reason);
         let line = format!(
-            "{mark}{:>1} {z:>8.5} {v:>7.0} {:<6} {:>5.0} {:<4} {reason}",
+            "{mark}{:>1} {z:>7.5} {v:>6.0} {:<6} {:>5.1} {:<4} {reason}",
             c.rank,
             c.class.as_str(),
             c.score,
