@@ -368,9 +368,14 @@ def analyse(w, f, e):
                                       -1000 / C, 1000 / C, dln, max(1.5, 150 / px_kms))
     lag_gal, r_gal = template_xcorr(grid, flat, okx, STELLAR, [],
                                     math.log1p(0.01), math.log1p(1.2), dln, max(2.0, 400 / px_kms))
+    # Emission wins when it is several lines or clearly stronger than the
+    # stellar absorption correlation (absorption spectra leave positive bumps
+    # between their lines that can vote for a spurious emission solution).
     if best is not None:
-        cls, z, _ = best
-        return cls, z, snr_med
+        cls, z, s_em = best
+        n_em = len([l for l in em if l[2] > 6])
+        if cls == "qso" or n_em >= 3 or r_star < 6.0 or s_em > 3 * r_star:
+            return cls, z, snr_med
     if r_star > 6.0 and r_star >= 0.8 * r_gal:
         return "star", math.expm1(lag_star), snr_med
     if r_gal > 7.0:
