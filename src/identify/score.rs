@@ -218,13 +218,19 @@ pub(crate) fn score(
         if n.npix < 3 || d.npix < 3 {
             continue;
         }
+        // The catalogue's fixed ratios are emission-line physics (transition
+        // probabilities, Case B recombination); they say nothing about a pair
+        // of absorption lines, e.g. the Balmer lines of an A star.
+        if n.flux < 0.0 && d.flux < 0.0 {
+            continue;
+        }
         if let Some(p) = ratio_penalty(n, d, r.range) {
             if p > 0.0 {
                 notes.push(format!(
                     "{}/{} ratio off ({:.2}, allowed {:.2}-{:.2})",
                     r.numerator,
                     r.denominator,
-                    n.flux / d.flux.max(1e-300),
+                    n.flux.max(0.0) / d.flux.max(d.flux_err).max(1e-300),
                     r.range.0,
                     r.range.1
                 ));
