@@ -305,6 +305,16 @@ fn display_path(path: &Path) -> String {
 
 /// Build the output record of an analysed spectrum.
 pub fn record_ok(path: &Path, spectrum: &Spectrum, analysis: &Analysis) -> Record {
+    // Barycentric correction from the file's own metadata; when it cannot be
+    // made, the fields stay null and a warning says what is missing.
+    let bary = crate::physics::bary::compute(
+        &spectrum.meta,
+        &crate::physics::bary::BaryOverrides::default(),
+    );
+    let (corr, bary_warning) = match &bary {
+        Ok(c) => (Some(c.kms), None),
+        Err(e) => (None, Some(format!("no barycentric correction: {e}"))),
+    };
     let lines = analysis
         .features
         .iter()
@@ -352,8 +362,8 @@ pub fn record_ok(path: &Path, spectrum: &Spectrum, analysis: &Analysis) -> Recor
                     offset_kms: m.offset_kms,
                 })
                 .collect(),
-            z_bary: None,
-            velocity_bary_kms: None,
+            z_bary: crate::physics::bary::corrected(c.z, corr).0,
+            velocity_bary_kms: crate::physics::bary::corrected(c.z, corr).1,
         })
         .collect();
     let warnings = spectrum
@@ -361,6 +371,7 @@ pub fn record_ok(path: &Path, spectrum: &Spectrum, analysis: &Analysis) -> Recor
         .warnings
         .iter()
         .chain(&analysis.warnings)
+        .chain(bary_warning.as_ref())
         .map(|w| crate::text::clean(w))
         .collect();
     Record::Ok(Box::new(OkRecord {
@@ -377,7 +388,7 @@ pub fn record_ok(path: &Path, spectrum: &Spectrum, analysis: &Analysis) -> Recor
         wavelength_min: spectrum.wave.first().copied().unwrap_or(f64::NAN),
         wavelength_max: spectrum.wave.last().copied().unwrap_or(f64::NAN),
         snr: analysis.noise.median_snr,
-        barycentric_correction_kms: None,
+        barycentric_correction_kms: corr,
         lines,
         candidates,
         warnings,
