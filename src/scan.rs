@@ -342,28 +342,31 @@ pub fn record_ok(path: &Path, spectrum: &Spectrum, analysis: &Analysis) -> Recor
     let candidates = analysis
         .candidates
         .iter()
-        .map(|c| CandidateOut {
-            rank: c.rank,
-            z: c.z,
-            z_err: c.z_err,
-            velocity_kms: c.velocity_kms,
-            class: c.class.as_str().into(),
-            subclass: c.subclass.as_deref().map(crate::text::clean),
-            score: c.score,
-            grade: c.grade.as_str().into(),
-            reason: crate::text::clean(&c.reason),
-            matched: c
-                .matched
-                .iter()
-                .map(|m| MatchOut {
-                    line: m.line.clone(),
-                    rest_wavelength: m.rest_wavelength,
-                    observed_wavelength: m.observed_wavelength,
-                    offset_kms: m.offset_kms,
-                })
-                .collect(),
-            z_bary: crate::physics::bary::corrected(c.z, corr).0,
-            velocity_bary_kms: crate::physics::bary::corrected(c.z, corr).1,
+        .map(|c| {
+            let (z_bary, velocity_bary_kms) = crate::physics::bary::corrected(c.z, corr);
+            CandidateOut {
+                rank: c.rank,
+                z: c.z,
+                z_err: c.z_err,
+                velocity_kms: c.velocity_kms,
+                class: c.class.as_str().into(),
+                subclass: c.subclass.as_deref().map(crate::text::clean),
+                score: c.score,
+                grade: c.grade.as_str().into(),
+                reason: crate::text::clean(&c.reason),
+                matched: c
+                    .matched
+                    .iter()
+                    .map(|m| MatchOut {
+                        line: m.line.clone(),
+                        rest_wavelength: m.rest_wavelength,
+                        observed_wavelength: m.observed_wavelength,
+                        offset_kms: m.offset_kms,
+                    })
+                    .collect(),
+                z_bary,
+                velocity_bary_kms,
+            }
         })
         .collect();
     let warnings = spectrum
