@@ -476,6 +476,9 @@ impl Identifier {
         for (s, _, _) in redshift::vote(features, &self.catalogue, s_lo, s_hi, g.step.max(2e-4)) {
             seeds.push((Hypothesis::Galaxy, s, 2.0 * g.step));
         }
+        // Seeds found by more than one route (comb, cross-correlation,
+        // votes) at the same place would refine to the same fit.
+        let seeds = merge_seeds(seeds);
         let mut scored: Vec<Scored> = seeds
             .iter()
             .filter_map(|&(h, s, reach)| self.refine(prep, h, s, reach, None))
@@ -669,6 +672,23 @@ fn link_features(candidates: &mut [Candidate], features: &[Feature]) {
                 .map(|(i, _)| i);
         }
     }
+}
+
+/// Merge seeds of one hypothesis closer than a quarter of their search
+/// reach (keeping the wider reach), in a stable order.
+fn merge_seeds(seeds: Vec<(Hypothesis, f64, f64)>) -> Vec<(Hypothesis, f64, f64)> {
+    let mut out: Vec<(Hypothesis, f64, f64)> = Vec::with_capacity(seeds.len());
+    for (h, s, r) in seeds {
+        if let Some(k) = out
+            .iter_mut()
+            .find(|(h2, s2, r2)| *h2 == h && (s - *s2).abs() <= 0.25 * r.max(*r2))
+        {
+            k.2 = k.2.max(r);
+        } else {
+            out.push((h, s, r));
+        }
+    }
+    out
 }
 
 /// The candidate reported when nothing usable was found.

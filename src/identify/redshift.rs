@@ -437,6 +437,8 @@ pub(crate) fn joint_fit(
         }
     }
     s = best.1;
+    // The gain at the current (s, widths), kept so no point is evaluated twice.
+    let mut here = best.0;
     let mut h = h;
     for _round in 0..2 {
         // Widths of the groups in use, by factors.
@@ -446,7 +448,7 @@ pub(crate) fn joint_fit(
             }
             let (lo, hi) = SIGMA_LIMITS_KMS[g];
             let w0 = widths[g];
-            let mut bw = (g_at(s, &widths), w0);
+            let mut bw = (here, w0);
             for f in [0.55, 0.75, 1.35, 1.8] {
                 let mut w = widths;
                 w[g] = (w0 * f).clamp(lo / C_KM_S, hi / C_KM_S);
@@ -456,18 +458,25 @@ pub(crate) fn joint_fit(
                 }
             }
             widths[g] = bw.1;
+            here = bw.0;
         }
         // Parabolic refinement of s, shrinking the step.
         for _ in 0..3 {
             let y0 = g_at(s - h, &widths);
-            let y1 = g_at(s, &widths);
+            let y1 = here;
             let y2 = g_at(s + h, &widths);
             if y0 > y1 && y0 >= y2 {
                 s -= h;
+                here = y0;
             } else if y2 > y1 {
                 s += h;
+                here = y2;
             } else {
-                s += vertex(y0, y1, y2) * h;
+                let d = vertex(y0, y1, y2);
+                if d != 0.0 {
+                    s += d * h;
+                    here = g_at(s, &widths);
+                }
                 h *= 0.4;
             }
         }
