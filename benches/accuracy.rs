@@ -28,6 +28,7 @@ struct Args {
     write: Option<PathBuf>,
     read: Option<PathBuf>,
     out: Option<PathBuf>,
+    failures: bool,
 }
 
 fn args() -> Args {
@@ -37,6 +38,7 @@ fn args() -> Args {
         write: None,
         read: None,
         out: None,
+        failures: false,
     };
     let v: Vec<String> = std::env::args().skip(1).collect();
     let mut i = 0;
@@ -63,6 +65,7 @@ fn args() -> Args {
                 a.out = Some(PathBuf::from(next(i)));
                 i += 1;
             }
+            "--failures" => a.failures = true,
             _ => {} // `cargo bench` passes --bench; ignore what we do not know
         }
         i += 1;
@@ -225,6 +228,25 @@ fn main() {
         pixels.push(spec.len());
         let answer = an.candidates.first().map(|c| (c.class, c.z));
         let verdict = set::judge(&syn.truth, answer);
+        if a.failures && !(verdict.z_ok && verdict.class_ok) {
+            println!(
+                "FAIL {name} {} snr {:.1} R {:.0} z {:.5}:",
+                syn.truth.kind.label(),
+                c.spec.snr,
+                c.spec.instrument.resolution,
+                syn.truth.z
+            );
+            for k in an.candidates.iter().take(3) {
+                println!(
+                    "   {} {:.5} {:.0} {:?} | {}",
+                    k.class.as_str(),
+                    k.z,
+                    k.score,
+                    k.grade,
+                    k.reason
+                );
+            }
+        }
         outcomes.push(Outcome {
             class: syn.truth.class,
             kind: syn.truth.kind,

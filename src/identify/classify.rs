@@ -100,8 +100,20 @@ pub(crate) fn classify(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_star: 
     let em = |name: &str| find(cat, &sc.lines, name).filter(|m| m.snr >= 2.0 && m.flux > 0.0);
     let n_em = sc.lines.iter().filter(|m| m.snr >= 4.0).count();
     let mut class = sc.hypothesis.class();
-    // An absorption-only "galaxy" within stellar velocities is a star.
-    if sc.hypothesis == Hypothesis::Galaxy && velocity_kms.abs() <= v_star && n_em == 0 {
+    // A "galaxy" within stellar velocities whose evidence is nearly all
+    // absorption is a star (a noise bump fitted as weak emission does not
+    // make it a galaxy).
+    let power = |emission: bool| -> f64 {
+        sc.lines
+            .iter()
+            .filter(|m| if emission { m.snr >= 3.0 } else { m.snr <= -3.0 })
+            .map(|m| m.snr * m.snr)
+            .sum()
+    };
+    if sc.hypothesis == Hypothesis::Galaxy
+        && velocity_kms.abs() <= v_star
+        && power(true) < 0.15 * power(false)
+    {
         class = ObjectClass::Star;
     }
     let mut subclass = None;

@@ -48,6 +48,54 @@ pub(crate) enum Group {
     AbHydrogen = 2,
     /// Broad emission.
     EmBroad = 3,
+    /// Molecular bands of cool stars: a sharp head (as wide as the narrow
+    /// absorption lines) and absorption fading exponentially to the red.
+    /// Their "width" is the e-folding length of the fade.
+    Band = 4,
+}
+
+/// Number of width groups.
+pub(crate) const GROUPS: usize = 5;
+
+/// Species whose features are molecular bands (head + fading absorption).
+fn is_band_species(species: &str) -> bool {
+    matches!(species, "TiO" | "CaH" | "VO")
+}
+
+/// The profile of a line of `group` at offset `u` (ln lambda) from its
+/// centre or band head, peak 1.
+pub(crate) fn profile(group: Group, u: f64, widths: &[f64; GROUPS]) -> f64 {
+    match group {
+        Group::Band => {
+            let e = widths[Group::AbNarrow as usize];
+            let edge = 1.0 / (1.0 + (-1.702 * u / e).exp());
+            edge * (-u.max(0.0) / widths[Group::Band as usize]).exp()
+        }
+        g => {
+            let t = u / widths[g as usize];
+            (-0.5 * t * t).exp()
+        }
+    }
+}
+
+/// The ln-lambda extent (below, above the centre) over which a profile is
+/// evaluated.
+pub(crate) fn extent(group: Group, widths: &[f64; GROUPS]) -> (f64, f64) {
+    match group {
+        Group::Band => (
+            3.5 * widths[Group::AbNarrow as usize],
+            3.0 * widths[Group::Band as usize],
+        ),
+        g => (3.5 * widths[g as usize], 3.5 * widths[g as usize]),
+    }
+}
+
+/// The integral of a peak-1 profile over ln lambda.
+pub(crate) fn profile_area(group: Group, widths: &[f64; GROUPS]) -> f64 {
+    match group {
+        Group::Band => widths[Group::Band as usize],
+        g => widths[g as usize] * (2.0 * std::f64::consts::PI).sqrt(),
+    }
 }
 
 /// Sign constraint of an amplitude.
@@ -77,7 +125,7 @@ pub(crate) struct JointFit {
     /// 1-sigma error of ln(1+z).
     pub s_err: f64,
     /// Gaussian sigma per group, in ln(lambda).
-    pub widths: [f64; 4],
+    pub widths: [f64; GROUPS],
     /// The lines fitted (those dropped for the wrong sign keep amplitude 0).
     pub lines: Vec<FitLine>,
     /// Amplitudes (flux units; emission > 0).
@@ -95,13 +143,15 @@ pub(crate) struct JointFit {
 }
 
 /// Default Gaussian sigma per group, km/s.
-const DEFAULT_SIGMA_KMS: [f64; 4] = [110.0, 150.0, 500.0, 2000.0];
+const DEFAULT_SIGMA_KMS: [f64; GROUPS] = [110.0, 150.0, 500.0, 2000.0, 4500.0];
 /// Width limits per group, km/s (sigma).
-const SIGMA_LIMITS_KMS: [(f64, f64); 4] = [
+const SIGMA_LIMITS_KMS: [(f64, f64); GROUPS] = [
     (15.0, 700.0),
     (15.0, 900.0),
     (30.0, 2500.0),
     (700.0, 6000.0),
+    // Band fade lengths of 25-200 A at 5,000-8,000 A.
+    (1500.0, 12000.0),
 ];
 
 /// Choose the lines to fit for a hypothesis at ln(1+z) = `s`.
@@ -130,7 +180,9 @@ pub(crate) fn lines_for(
             (Hypothesis::Qso, Channel::EmBroad) => (Group::EmBroad, Sign::Positive),
             (Hypothesis::Qso, _) => (Group::EmNarrow, Sign::Positive),
             (Hypothesis::Star, _) => {
-                if l.species == "H I" {
+                if is_band_species(&l.species) {
+                    (Group::Band, Sign::Negative)
+                } else if l.species == "H I" {
                     (Group::AbHydrogen, Sign::Negative)
                 } else {
                     (Group::AbNarrow, Sign::Negative)
@@ -161,13 +213,14 @@ pub(crate) fn lines_for(
     out
 }
 
-/// Gaussian column of one line: (first pixel, values).
-fn column(native: &Native, x: f64, sig: f64) -> (usize, Vec<f64>) {
-    let a = native.lnw.partition_point(|&v| v < x - 3.5 * sig);
-    let b = native.lnw.partition_point(|&v| v <= x + 3.5 * sig);
+/// Profile column of one line of `group` at `x`: (first pixel, values).
+fn column(native: &Native, x: f64, group: Group, widths: &[f64; GROUPS]) -> (usize, Vec<f64>) {
+    let (below, above) = extent(group, widths);
+    let a = native.lnw.partition_point(|&v| v < x - below);
+    let b = native.lnw.partition_point(|&v| v <= x + above);
     let vals = native.lnw[a..b]
         .iter()
-        .map(|&v| (-0.5 * ((v - x) / sig).powi(2)).exp())
+        .map(|&v| profile(group, v - x, widths))
         .collect();
     (a, vals)
 }
@@ -231,11 +284,17 @@ struct Eval {
     dof: f64,
 }
 
-fn evaluate(native: &Native, lines: &[FitLine], s: f64, widths: &[f64; 4], broad: bool) -> Eval {
+fn evaluate(
+    native: &Native,
+    lines: &[FitLine],
+    s: f64,
+    widths: &[f64; GROUPS],
+    broad: bool,
+) -> Eval {
     let n = lines.len();
     let cols: Vec<(usize, Vec<f64>)> = lines
         .iter()
-        .map(|l| column(native, l.ln_rest + s, widths[l.group as usize]))
+        .map(|l| column(native, l.ln_rest + s, l.group, widths))
         .collect();
     let base = if broad {
         &native.cont_broad
@@ -412,18 +471,18 @@ pub(crate) fn joint_fit(
     lines: Vec<FitLine>,
     s0: f64,
     reach: f64,
-    init_sigma_kms: [f64; 4],
+    init_sigma_kms: [f64; GROUPS],
 ) -> Option<JointFit> {
     if lines.is_empty() {
         return None;
     }
     let broad = lines.iter().any(|l| l.group == Group::EmBroad);
-    let mut widths = [0.0; 4];
-    for g in 0..4 {
+    let mut widths = [0.0; GROUPS];
+    for g in 0..GROUPS {
         let (lo, hi) = SIGMA_LIMITS_KMS[g];
         widths[g] = init_sigma_kms[g].clamp(lo, hi) / C_KM_S;
     }
-    let g_at = |s: f64, w: &[f64; 4]| evaluate(native, &lines, s, w, broad).gain;
+    let g_at = |s: f64, w: &[f64; GROUPS]| evaluate(native, &lines, s, w, broad).gain;
     // Coarse search in s.
     let mut s;
     let steps = 8;
@@ -442,7 +501,7 @@ pub(crate) fn joint_fit(
     let mut h = h;
     for _round in 0..2 {
         // Widths of the groups in use, by factors.
-        for g in 0..4 {
+        for g in 0..GROUPS {
             if !lines.iter().any(|l| l.group as usize == g) {
                 continue;
             }
@@ -533,10 +592,15 @@ fn measure_offsets(native: &Native, fit: &mut JointFit) {
         if fit.amp_err[i] <= 0.0 || (fit.amp[i] / fit.amp_err[i]).abs() < 3.0 {
             continue;
         }
-        let sig = fit.widths[fit.lines[i].group as usize];
+        let group = fit.lines[i].group;
+        let sig = if group == Group::Band {
+            fit.widths[Group::AbNarrow as usize]
+        } else {
+            fit.widths[group as usize]
+        };
         let x0 = fit.lines[i].ln_rest + fit.s;
         let gain_at = |dx: f64| -> f64 {
-            let (a, v) = column(native, x0 + dx, sig);
+            let (a, v) = column(native, x0 + dx, group, &fit.widths);
             let mut num = 0.0;
             let mut den = 0.0;
             for (t, g) in v.iter().enumerate() {
@@ -549,11 +613,10 @@ fn measure_offsets(native: &Native, fit: &mut JointFit) {
                 let mut y = native.flux[px] - base[px];
                 for (j, l) in fit.lines.iter().enumerate() {
                     if j != i && fit.amp[j] != 0.0 {
-                        let sj = fit.widths[l.group as usize];
-                        let xj = l.ln_rest + fit.s;
-                        let u = (native.lnw[px] - xj) / sj;
-                        if u.abs() < 4.0 {
-                            y -= fit.amp[j] * (-0.5 * u * u).exp();
+                        let u = native.lnw[px] - (l.ln_rest + fit.s);
+                        let (below, above) = extent(l.group, &fit.widths);
+                        if u > -below && u < above {
+                            y -= fit.amp[j] * profile(l.group, u, &fit.widths);
                         }
                     }
                 }
@@ -584,7 +647,7 @@ fn measure_offsets(native: &Native, fit: &mut JointFit) {
 
 /// Default initial widths (sigma, km/s), adjusted by the grid's best
 /// narrow-kernel width at the strongest narrow line.
-pub(crate) fn initial_sigma(narrow_fwhm_kms: Option<f64>) -> [f64; 4] {
+pub(crate) fn initial_sigma(narrow_fwhm_kms: Option<f64>) -> [f64; GROUPS] {
     let mut s = DEFAULT_SIGMA_KMS;
     if let Some(f) = narrow_fwhm_kms {
         s[0] = f / 2.3548;

@@ -19,7 +19,7 @@
 //! score is cut to 40% (a calibration ripple or a continuum break makes one
 //! broad bump easily, two at the right spacing rarely).
 
-use super::redshift::{Group, JointFit, Native};
+use super::redshift::{Group, JointFit, Native, profile_area};
 use super::xcorr::Hypothesis;
 use crate::lines::Catalogue;
 use crate::physics::constants::C_KM_S;
@@ -108,7 +108,7 @@ pub(crate) fn measure(native: &Native, fit: &JointFit) -> Vec<LineMeasure> {
             let sig = fit.widths[l.group as usize];
             let x = l.ln_rest + fit.s;
             let lam = x.exp();
-            let k = sig * lam * (2.0 * std::f64::consts::PI).sqrt();
+            let k = profile_area(l.group, &fit.widths) * lam;
             let c = interp(native, base, x);
             let flux = fit.amp[i] * k;
             let err = fit.amp_err[i] * k;
@@ -122,7 +122,12 @@ pub(crate) fn measure(native: &Native, fit: &JointFit) -> Vec<LineMeasure> {
                 flux,
                 flux_err: err,
                 observed: lam * (fit.offset_kms[i] / C_KM_S).exp(),
-                fwhm_kms: 2.354_820_045 * sig * C_KM_S,
+                // A band's "FWHM" is where the fade reaches half depth.
+                fwhm_kms: if l.group == Group::Band {
+                    std::f64::consts::LN_2 * sig * C_KM_S
+                } else {
+                    2.354_820_045 * sig * C_KM_S
+                },
                 ew: if c.abs() > 0.0 { -flux / c } else { 0.0 },
                 offset_kms: fit.offset_kms[i],
                 npix: fit.npix[i],
