@@ -327,12 +327,25 @@ pub(crate) fn score(
             .iter()
             .filter(|m| m.group == Group::EmNarrow && m.snr >= 4.0)
             .count();
+        let power = |broad: bool| -> f64 {
+            lines
+                .iter()
+                .filter(|m| (m.group == Group::EmBroad) == broad && m.snr >= 4.0)
+                .map(|m| m.snr * m.snr)
+                .sum()
+        };
         if n_broad == 0 {
             score = score.min(0.0);
             notes.push("no broad line".to_string());
         } else if n_broad == 1 && narrow_sig < 2 {
             score *= 0.4;
             notes.push("a single broad line".to_string());
+        } else if power(true) < 0.2 * power(false) {
+            // Broad wings under strong narrow lines (an instrument profile
+            // that is not quite Gaussian) do not make a quasar: the broad
+            // lines of a broad-line AGN carry much of its line flux.
+            score *= 0.5;
+            notes.push("broad lines weak beside the narrow ones".to_string());
         }
     }
     Scored {
