@@ -181,6 +181,54 @@ pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<(f64, f64, f64)> {
     Some((1.0 - b / r, err, dips_b - dips_r))
 }
 
+/// Broad-scale structure test for a quasar fit: a Gaussian of the fitted
+/// broad width is placed every width along the spectrum (redward of the
+/// forest, outside telluric bands) and its amplitude fitted on the residual
+/// from the broad continuum. Returns the summed S/N^2 of the significant
+/// (beyond 4 sigma) dips and of the significant bumps, or `None` without a
+/// broad group.
+pub(crate) fn broad_dips(native: &Native, fit: &JointFit) -> Option<(f64, f64)> {
+    if !fit.lines.iter().any(|l| l.group == Group::EmBroad) {
+        return None;
+    }
+    let sig = fit.widths[Group::EmBroad as usize];
+    let (lo, hi) = (*native.lnw.first()?, *native.lnw.last()?);
+    // Blueward of Lyman-alpha (plus a broad-line width) the forest absorbs.
+    let start = lo.max(1215.67f64.ln() + fit.s + 2.0 * sig) + 3.0 * sig;
+    let (mut dips, mut bumps) = (0.0, 0.0);
+    let mut x = start;
+    while x < hi - 3.0 * sig {
+        let in_band = native
+            .telluric
+            .iter()
+            .any(|&(a, b)| x + 2.0 * sig > a && x - 2.0 * sig < b);
+        if !in_band {
+            let a = native.lnw.partition_point(|&v| v < x - 3.0 * sig);
+            let b = native.lnw.partition_point(|&v| v <= x + 3.0 * sig);
+            let (mut num, mut den) = (0.0, 0.0);
+            for k in a..b {
+                let w = native.ivar[k];
+                if w > 0.0 {
+                    let t = (native.lnw[k] - x) / sig;
+                    let g = (-0.5 * t * t).exp();
+                    num += w * g * (native.flux[k] - native.cont_broad[k]);
+                    den += w * g * g;
+                }
+            }
+            if den > 0.0 {
+                let z = num / den.sqrt();
+                if z < -4.0 {
+                    dips += z * z;
+                } else if z > 4.0 {
+                    bumps += z * z;
+                }
+            }
+        }
+        x += sig;
+    }
+    Some((dips, bumps))
+}
+
 /// Score a fit. `forest_edge`: when a quasar's forest has been recognised,
 /// the ln(lambda) below which absorption lines may not count for other
 /// hypotheses.
@@ -340,6 +388,14 @@ pub(crate) fn score(
         } else if n_broad == 1 && narrow_sig < 2 {
             score *= 0.4;
             notes.push("a single broad line".to_string());
+        } else if let Some((dips, bumps)) = broad_dips(native, fit)
+            && dips > 0.3 * bumps
+        {
+            // A flux-calibration ripple or a continuum break makes broad
+            // dips as well as broad bumps; a quasar's continuum between its
+            // lines (outside the forest and telluric bands) has no dips.
+            score *= 0.25;
+            notes.push("broad dips beside the broad lines: a ripple?".to_string());
         } else if power(true) < 0.2 * power(false) {
             // Broad wings under strong narrow lines (an instrument profile
             // that is not quite Gaussian) do not make a quasar: the broad
