@@ -137,12 +137,29 @@ pub(crate) fn measure(native: &Native, fit: &JointFit) -> Vec<LineMeasure> {
         .collect()
 }
 
-/// Forest depth for a quasar at ln(1+z) = `s`: 1 - median(flux, rest
-/// 1050-1170 A) / median(flux, rest 1280-1380 A), with its error, and the
-/// excess of pixels lying 2.5 sigma below the narrow continuum in the blue
-/// window over the red one (many narrow absorbers: a forest, not a
-/// continuum break). `None` when either window has too few good pixels.
-pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<(f64, f64, f64)> {
+/// What the forest window of a quasar candidate shows.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Forest {
+    /// 1 - median(flux, rest 1050-1170 A) / median(flux, rest 1280-1380 A).
+    pub depth: f64,
+    /// Its error.
+    pub err: f64,
+    /// Excess of pixels 2.5 sigma below the narrow continuum in the blue
+    /// window over the red one.
+    pub dips: f64,
+    /// Scatter about the narrow continuum in the blue window beyond the
+    /// noise, as a fraction of the red window's median flux: a forest of
+    /// absorbers scatters the flux by tens of per cent, a continuum break
+    /// with a few stellar lines by a few.
+    pub scatter: f64,
+    /// S/N of the red window's median per pixel.
+    pub red_snr: f64,
+}
+
+/// The forest window of a quasar at ln(1+z) = `s` against the window
+/// redward of its Lyman-alpha. `None` when either window has too few good
+/// pixels.
+pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<Forest> {
     let range = |a: f64, b: f64| -> (usize, usize) {
         let (la, lb) = (a.ln() + s, b.ln() + s);
         (
@@ -150,7 +167,7 @@ pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<(f64, f64, f64)> {
             native.lnw.partition_point(|&v| v <= lb),
         )
     };
-    let stats = |a: f64, b: f64| -> Option<(f64, usize, f64, f64)> {
+    let stats = |a: f64, b: f64| -> Option<(f64, usize, f64, f64, f64)> {
         let (i, j) = range(a, b);
         let good: Vec<usize> = (i..j).filter(|&k| native.ivar[k] > 0.0).collect();
         if good.len() < 15 {
@@ -169,16 +186,27 @@ pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<(f64, f64, f64)> {
             .map(|&k| 1.0 / native.ivar[k].sqrt())
             .sum::<f64>()
             / good.len() as f64;
-        Some((v[m], good.len(), dips, sig))
+        let excess = good
+            .iter()
+            .map(|&k| (native.flux[k] - native.cont_narrow[k]).powi(2) - 1.0 / native.ivar[k])
+            .sum::<f64>()
+            / good.len() as f64;
+        Some((v[m], good.len(), dips, sig, excess))
     };
-    let (b, nb, dips_b, _) = stats(1050.0, 1170.0)?;
-    let (r, nr, dips_r, sig_r) = stats(1280.0, 1380.0)?;
+    let (b, nb, dips_b, _, excess_b) = stats(1050.0, 1170.0)?;
+    let (r, nr, dips_r, sig_r, _) = stats(1280.0, 1380.0)?;
     if r <= 0.0 {
         return None;
     }
     // Noise of a median: 1.25 sigma / sqrt N.
     let err = 1.25 * sig_r / (nr.min(nb) as f64).sqrt() / r * 2f64.sqrt();
-    Some((1.0 - b / r, err, dips_b - dips_r))
+    Some(Forest {
+        depth: 1.0 - b / r,
+        err,
+        dips: dips_b - dips_r,
+        scatter: excess_b.max(0.0).sqrt() / r,
+        red_snr: r / sig_r,
+    })
 }
 
 /// Broad-scale structure test for a quasar fit: a Gaussian of the fitted
@@ -360,21 +388,55 @@ pub(crate) fn score(
     let mut score = evidence - penalty;
     let mut forest = None;
     if hypothesis == Hypothesis::Qso {
-        if let Some((depth, err, dips)) = forest_depth(native, fit.s) {
+        if let Some(f) = forest_depth(native, fit.s) {
+            let depth = f.depth;
             forest = Some(depth);
-            if depth > 0.1 && depth > 3.0 * err && dips > 0.02 {
+            let forest_like = f.scatter > 0.1 && f.dips > 0.02;
+            if depth > 0.1 && depth > 3.0 * f.err && forest_like {
                 let bonus = (100.0 * depth).min(60.0);
                 score += bonus;
                 notes.push(format!(
                     "Lyman-alpha forest, flux drop {:.0}%",
                     100.0 * depth
                 ));
+            } else if f.scatter < 0.06 && f.red_snr > 5.0 {
+                // Blueward of Lyman-alpha a quasar's light passes through
+                // the intergalactic forest; smooth flux there is not that.
+                score *= 0.5;
+                notes.push("smooth where the forest should be".to_string());
             }
         }
         let narrow_sig = lines
             .iter()
             .filter(|m| m.group == Group::EmNarrow && m.snr >= 4.0)
             .count();
+        // Strong broad lines that the brightest broad line says must be
+        // seen: each absent one halves the score (the additive penalty
+        // above is negligible beside the gain of a very bright feature).
+        let broad: Vec<&LineMeasure> = lines
+            .iter()
+            .filter(|m| m.group == Group::EmBroad && m.npix >= 3)
+            .collect();
+        if let Some(top) = broad.iter().max_by(|a, b| a.snr.total_cmp(&b.snr))
+            && top.snr >= 8.0
+        {
+            let s_top = cat.lines[top.line].strength.max(0.05);
+            let mut absent = Vec::new();
+            for m in &broad {
+                let s_l = cat.lines[m.line].strength;
+                if m.line == top.line || s_l < 0.5 || m.flux_err <= 0.0 {
+                    continue;
+                }
+                let pred = 0.25 * top.flux * s_l / s_top;
+                if pred / m.flux_err > 5.0 && m.flux < 0.5 * pred {
+                    absent.push(name_of(m.line).to_string());
+                }
+            }
+            if !absent.is_empty() {
+                score *= 0.5f64.powi(absent.len().min(2) as i32);
+                notes.push(format!("{} absent", absent.join(", ")));
+            }
+        }
         let power = |broad: bool| -> f64 {
             lines
                 .iter()
