@@ -225,8 +225,10 @@ fn column(native: &Native, x: f64, group: Group, widths: &[f64; GROUPS]) -> (usi
     (a, vals)
 }
 
-/// Solve the symmetric positive system `m a = b` (Cholesky); `None` if singular.
-fn solve(m: &[f64], b: &[f64], n: usize) -> Option<(Vec<f64>, Vec<f64>)> {
+/// Solve the symmetric positive system `m a = b` (Cholesky); `None` if
+/// singular. With `want_var`, also the diagonal of the inverse (the
+/// variances), else an empty vector.
+fn solve(m: &[f64], b: &[f64], n: usize, want_var: bool) -> Option<(Vec<f64>, Vec<f64>)> {
     let mut l = vec![0.0; n * n];
     for i in 0..n {
         for j in 0..=i {
@@ -264,6 +266,9 @@ fn solve(m: &[f64], b: &[f64], n: usize) -> Option<(Vec<f64>, Vec<f64>)> {
         x
     };
     let a = fwd(b);
+    if !want_var {
+        return Some((a, Vec::new()));
+    }
     // Diagonal of the inverse (variances).
     let mut var = vec![0.0; n];
     for (i, v) in var.iter_mut().enumerate() {
@@ -290,6 +295,7 @@ fn evaluate(
     s: f64,
     widths: &[f64; GROUPS],
     broad: bool,
+    want_var: bool,
 ) -> Eval {
     let n = lines.len();
     let cols: Vec<(usize, Vec<f64>)> = lines
@@ -326,7 +332,9 @@ fn evaluate(
         }
         let first = cols[order[start]].0;
         let cluster = &order[start..end];
-        gain += solve_cluster(native, lines, &cols, base, &npix, cluster, &mut amp, &mut var);
+        gain += solve_cluster(
+            native, lines, &cols, base, &npix, cluster, &mut amp, &mut var, want_var,
+        );
         // Chi-square of the cluster's pixels under the fitted model.
         let mut model = vec![0.0; reach - first];
         for &i in cluster {
@@ -374,6 +382,7 @@ fn solve_cluster(
     cluster: &[usize],
     amp: &mut [f64],
     var: &mut [f64],
+    want_var: bool,
 ) -> f64 {
     let mut active: Vec<bool> = cluster.iter().map(|&i| npix[i] >= 2).collect();
     for _ in 0..=cluster.len() {
@@ -415,7 +424,7 @@ fn solve_cluster(
             m[p * k + p] *= 1.0 + 1e-9;
             m[p * k + p] += 1e-300;
         }
-        let Some((a, v)) = solve(&m, &b, k) else {
+        let Some((a, v)) = solve(&m, &b, k, false) else {
             // Drop the weakest-determined line and retry.
             if let Some(pos) = cluster.iter().rposition(|i| Some(i) == idx.last()) {
                 active[pos] = false;
@@ -431,7 +440,8 @@ fn solve_cluster(
                 Sign::Negative => a[p] > 0.0,
             };
             if wrong {
-                let z = a[p].abs() / v[p].sqrt();
+                // Significance ignoring correlations (no inverse needed).
+                let z = a[p] * a[p] * m[p * k + p];
                 if z >= worst {
                     worst = z;
                     bad = Some(i);
@@ -444,10 +454,15 @@ fn solve_cluster(
             }
             continue;
         }
+        let v = if want_var {
+            solve(&m, &b, k, true).map(|x| x.1).unwrap_or_default()
+        } else {
+            v
+        };
         let mut gain = 0.0;
         for (p, &i) in idx.iter().enumerate() {
             amp[i] = a[p];
-            var[i] = v[p];
+            var[i] = v.get(p).copied().unwrap_or(0.0);
             gain += a[p] * b[p];
         }
         return gain;
@@ -482,7 +497,7 @@ pub(crate) fn joint_fit(
         let (lo, hi) = SIGMA_LIMITS_KMS[g];
         widths[g] = init_sigma_kms[g].clamp(lo, hi) / C_KM_S;
     }
-    let g_at = |s: f64, w: &[f64; GROUPS]| evaluate(native, &lines, s, w, broad).gain;
+    let g_at = |s: f64, w: &[f64; GROUPS]| evaluate(native, &lines, s, w, broad, false).gain;
     // Coarse search in s.
     let mut s;
     let steps = 8;
@@ -540,7 +555,7 @@ pub(crate) fn joint_fit(
             }
         }
     }
-    let ev = evaluate(native, &lines, s, &widths, broad);
+    let ev = evaluate(native, &lines, s, &widths, broad, true);
     // Curvature for the error: chi2(s) = chi2_min + C (s - s*)^2 / 2 with
     // C = -d2 gain / ds2; sigma_s = sqrt(2 / C) (Delta chi2 = 1).
     let sig_min = widths
@@ -726,7 +741,7 @@ mod tests {
     #[test]
     fn cholesky_solves_a_small_system() {
         // [[4,2],[2,3]] x = [2,1] -> x = [0.5, 0] (by hand).
-        let (x, var) = solve(&[4.0, 2.0, 2.0, 3.0], &[2.0, 1.0], 2).unwrap();
+        let (x, var) = solve(&[4.0, 2.0, 2.0, 3.0], &[2.0, 1.0], 2, true).unwrap();
         assert!((x[0] - 0.5).abs() < 1e-12 && x[1].abs() < 1e-12);
         // Inverse diagonal: 3/8 and 4/8.
         assert!((var[0] - 0.375).abs() < 1e-12 && (var[1] - 0.5).abs() < 1e-12);
