@@ -228,6 +228,22 @@ fn main() {
         pixels.push(spec.len());
         let answer = an.candidates.first().map(|c| (c.class, c.z));
         let verdict = set::judge(&syn.truth, answer);
+        if std::env::var_os("ZSIFT_DUMP_SCORES").is_some()
+            && let Some(k) = an.candidates.first()
+        {
+            // Scores of the rank-1 answers, for tuning the weak-evidence
+            // threshold: kind, S/N, z right, class, score, lines S/N >= 4.
+            let z_right = (k.z - syn.truth.z).abs() <= 0.001 * (1.0 + syn.truth.z);
+            println!(
+                "SCORE {} {:.1} {} {} {:.1} {}",
+                syn.truth.kind.label(),
+                c.spec.snr,
+                z_right,
+                k.class.as_str(),
+                k.score,
+                k.matched.iter().filter(|m| m.snr >= 4.0).count()
+            );
+        }
         if a.failures && !(verdict.z_ok && verdict.class_ok) {
             println!(
                 "FAIL {name} {} snr {:.1} R {:.0} z {:.5}:",

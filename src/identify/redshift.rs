@@ -384,39 +384,45 @@ fn solve_cluster(
     var: &mut [f64],
     want_var: bool,
 ) -> f64 {
+    let nc = cluster.len();
+    // Normal matrix and right-hand side of the whole cluster, built once;
+    // each refit after a drop takes the rows of the lines still active.
+    let mut full_b = vec![0.0; nc];
+    let mut full_m = vec![0.0; nc * nc];
+    for (p, &i) in cluster.iter().enumerate() {
+        let (ai, vi) = &cols[i];
+        for (t, g) in vi.iter().enumerate() {
+            let px = ai + t;
+            let w = native.ivar[px];
+            if w > 0.0 {
+                full_b[p] += w * (native.flux[px] - base[px]) * g;
+            }
+        }
+        for (q, &j) in cluster.iter().enumerate().take(p + 1) {
+            let (aj, vj) = &cols[j];
+            let lo = (*ai).max(*aj);
+            let hi = (ai + vi.len()).min(aj + vj.len());
+            let mut sum = 0.0;
+            for px in lo..hi {
+                sum += native.ivar[px] * vi[px - ai] * vj[px - aj];
+            }
+            full_m[p * nc + q] = sum;
+            full_m[q * nc + p] = sum;
+        }
+    }
     let mut active: Vec<bool> = cluster.iter().map(|&i| npix[i] >= 2).collect();
-    for _ in 0..=cluster.len() {
-        let idx: Vec<usize> = cluster
-            .iter()
-            .zip(&active)
-            .filter(|(_, a)| **a)
-            .map(|(i, _)| *i)
-            .collect();
+    for _ in 0..=nc {
+        let pos: Vec<usize> = (0..nc).filter(|&p| active[p]).collect();
+        let idx: Vec<usize> = pos.iter().map(|&p| cluster[p]).collect();
         let k = idx.len();
         if k == 0 {
             return 0.0;
         }
         let mut m = vec![0.0; k * k];
-        let mut b = vec![0.0; k];
-        for (p, &i) in idx.iter().enumerate() {
-            let (ai, vi) = &cols[i];
-            for (t, g) in vi.iter().enumerate() {
-                let px = ai + t;
-                let w = native.ivar[px];
-                if w > 0.0 {
-                    b[p] += w * (native.flux[px] - base[px]) * g;
-                }
-            }
-            for (q, &j) in idx.iter().enumerate().take(p + 1) {
-                let (aj, vj) = &cols[j];
-                let lo = (*ai).max(*aj);
-                let hi = (ai + vi.len()).min(aj + vj.len());
-                let mut sum = 0.0;
-                for px in lo..hi {
-                    sum += native.ivar[px] * vi[px - ai] * vj[px - aj];
-                }
-                m[p * k + q] = sum;
-                m[q * k + p] = sum;
+        let b: Vec<f64> = pos.iter().map(|&p| full_b[p]).collect();
+        for (r, &p) in pos.iter().enumerate() {
+            for (c, &q) in pos.iter().enumerate() {
+                m[r * k + c] = full_m[p * nc + q];
             }
         }
         // A touch of ridge keeps near-coincident lines solvable.
