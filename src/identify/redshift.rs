@@ -73,9 +73,37 @@ pub(crate) fn profile(group: Group, u: f64, widths: &[f64; GROUPS]) -> f64 {
         }
         g => {
             let t = u / widths[g as usize];
-            (-0.5 * t * t).exp()
+            exp_fast(-0.5 * t * t)
         }
     }
+}
+
+/// e^x for -700 < x <= 0, inlinable: x = n ln 2 + r with |r| <= ln 2 / 2,
+/// e^r from its Taylor series to r^9 (relative error below 1e-11), times
+/// 2^n built from the exponent bits. The profiles are evaluated millions of
+/// times per spectrum; this is several times cheaper than a libm call.
+#[inline]
+pub(crate) fn exp_fast(x: f64) -> f64 {
+    if x < -700.0 {
+        return 0.0;
+    }
+    let n = (x * std::f64::consts::LOG2_E).round();
+    let r = x - n * std::f64::consts::LN_2;
+    let mut p = 1.0 / 362_880.0;
+    for c in [
+        1.0 / 40_320.0,
+        1.0 / 5_040.0,
+        1.0 / 720.0,
+        1.0 / 120.0,
+        1.0 / 24.0,
+        1.0 / 6.0,
+        0.5,
+        1.0,
+        1.0,
+    ] {
+        p = p * r + c;
+    }
+    p * f64::from_bits(((n as i64 + 1023) as u64) << 52)
 }
 
 /// The ln-lambda extent (below, above the centre) over which a profile is
@@ -751,6 +779,17 @@ mod tests {
         assert!((x[0] - 0.5).abs() < 1e-12 && x[1].abs() < 1e-12);
         // Inverse diagonal: 3/8 and 4/8.
         assert!((var[0] - 0.375).abs() < 1e-12 && (var[1] - 0.5).abs() < 1e-12);
+    }
+
+    #[test]
+    fn the_fast_exponential_agrees_with_libm() {
+        let mut x = -700.0;
+        while x <= 0.0 {
+            let (a, b) = (exp_fast(x), x.exp());
+            assert!((a - b).abs() <= 1e-11 * b, "{x}: {a} vs {b}");
+            x += 0.0173;
+        }
+        assert_eq!(exp_fast(-800.0), 0.0);
     }
 
     #[test]
