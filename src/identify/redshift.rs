@@ -534,7 +534,7 @@ pub(crate) fn joint_fit(
     let g_at = |s: f64, w: &[f64; GROUPS]| evaluate(native, &lines, s, w, broad, false).gain;
     // Coarse search in s.
     let mut s;
-    let steps = 8;
+    let steps = 3;
     let h = reach / steps as f64;
     let mut best = (f64::NEG_INFINITY, s0);
     for k in -(steps as isize)..=(steps as isize) {
