@@ -261,6 +261,13 @@ fn main() {
                     k.grade,
                     k.reason
                 );
+                let widths: Vec<String> = k
+                    .matched
+                    .iter()
+                    .filter(|m| m.snr >= 4.0)
+                    .map(|m| format!("{} {:.0}", m.line, m.fwhm_kms))
+                    .collect();
+                println!("     FWHM km/s: {}", widths.join(", "));
             }
         }
         outcomes.push(Outcome {

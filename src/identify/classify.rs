@@ -106,7 +106,13 @@ pub(crate) fn classify(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_star: 
     let power = |emission: bool| -> f64 {
         sc.lines
             .iter()
-            .filter(|m| if emission { m.snr >= 3.0 } else { m.snr <= -3.0 })
+            .filter(|m| {
+                if emission {
+                    m.snr >= 3.0
+                } else {
+                    m.snr <= -3.0
+                }
+            })
             .map(|m| m.snr * m.snr)
             .sum()
     };

@@ -386,6 +386,34 @@ pub(crate) fn score(
         .count();
     let max_snr = lines.iter().map(|m| m.snr.abs()).fold(0.0, f64::max);
     let mut score = evidence - penalty;
+    // Emission lines of a galaxy are narrow: velocity dispersions and
+    // narrow-line regions give FWHM up to several hundred km/s, the
+    // instrument a few pixels. Widths far beyond that come from structure
+    // in the continuum (ripples, breaks), not from lines.
+    if hypothesis == Hypothesis::Galaxy && native.lnw.len() > 1 {
+        let n = native.lnw.len();
+        let pixel_kms = (native.lnw[n - 1] - native.lnw[0]) / (n - 1) as f64 * C_KM_S;
+        let limit = (1300.0f64).max(4.0 * pixel_kms);
+        // Emission only (absorption blends such as the G band, Mg b and
+        // Ca II H and K of an old population are broad), and only when such
+        // lines carry much of the evidence (one noise bump fitted as a broad
+        // line beside real absorption says nothing).
+        let power = |broad_only: bool| -> f64 {
+            lines
+                .iter()
+                .filter(|m| m.snr.abs() >= 4.0)
+                .filter(|m| {
+                    !broad_only || (m.group == Group::EmNarrow && m.snr > 0.0 && m.fwhm_kms > limit)
+                })
+                .map(|m| m.snr * m.snr)
+                .sum()
+        };
+        let all = power(false);
+        if all > 0.0 && power(true) >= 0.3 * all {
+            score *= 0.3;
+            notes.push(format!("lines broader than {limit:.0} km/s for a galaxy"));
+        }
+    }
     let mut forest = None;
     if hypothesis == Hypothesis::Qso {
         if let Some(f) = forest_depth(native, fit.s) {
