@@ -130,6 +130,11 @@ pub fn run(args: &Args) -> anyhow::Result<u8> {
             targets: targets_of(&queue),
             log_dir,
             read: ReadOptions::default(),
+            // The demo files say everything; configured sites are harmless.
+            bary: zsift::physics::bary::BaryOverrides {
+                sites: super::bary_opts::configured_sites()?,
+                ..Default::default()
+            },
         },
         &args.display,
     )
