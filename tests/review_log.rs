@@ -115,6 +115,77 @@ fn accepted_decisions_log_the_barycentric_values_and_export_carries_them() {
     assert_eq!(num(&r0[c_col]), corr);
     let r1 = row(&name(1));
     assert_eq!((&r1[zb_col], &r1[vb_col], &r1[c_col]), ("", "", ""));
+
+    // The JSON Lines form keeps numbers as numbers and absent values null.
+    let out = Command::new(env!("CARGO_BIN_EXE_zsift"))
+        .args(["export", "--format", "jsonl", "--log"])
+        .arg(&dir)
+        .output()
+        .expect("export runs");
+    let rows: Vec<serde_json::Value> = String::from_utf8(out.stdout)
+        .expect("utf8")
+        .lines()
+        .map(|l| serde_json::from_str(l).expect("json"))
+        .collect();
+    let row = |n: &str| rows.iter().find(|r| r["target"] == n).expect(n).clone();
+    let r0 = row(&name(0));
+    assert_eq!(r0["z_bary"].as_f64(), zb);
+    assert_eq!(r0["velocity_bary_kms"].as_f64(), vb);
+    assert_eq!(r0["barycentric_correction_kms"].as_f64(), Some(corr));
+    let r1 = row(&name(1));
+    assert!(r1["z_bary"].is_null() && r1["barycentric_correction_kms"].is_null());
+}
+
+#[test]
+fn the_worker_takes_a_queue_rows_values_first_then_the_options_then_the_file() {
+    use zsift::tui::worker::{Analyser, Core};
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/bary_fits");
+    let file = dir.join("no_site.fits");
+    let meta = zsift::spectrum::read(&file, &Default::default())
+        .expect("reads")
+        .meta;
+    let demo_site = format!(
+        "{},{},{}",
+        zsift::synth::demo::LONGITUDE_DEG,
+        zsift::synth::demo::LATITUDE_DEG,
+        zsift::synth::demo::HEIGHT_M
+    );
+    let option_site = "10.0,-30.0,1200";
+    let core = Core {
+        identifier: zsift::identify::Identifier::new(
+            &zsift::lines::builtin(),
+            zsift::identify::Settings::default(),
+        ),
+        read: Default::default(),
+        bary: bary::BaryOverrides {
+            site: Some(bary::parse_lonlat(option_site).expect("site")),
+            ..Default::default()
+        },
+    };
+    // Without a queue row: the option's site fills the file's gap.
+    let mut target = zsift::tui::app::Target::new("no site", &file);
+    let l = core.load(&target).expect("loads");
+    let with_option = bary::BaryOverrides {
+        site: Some(bary::parse_lonlat(option_site).expect("site")),
+        ..Default::default()
+    };
+    let want = bary::correction_kms(&meta, &with_option).expect("computable");
+    assert_eq!(l.bary.as_ref().map(|c| c.kms), Ok(want));
+    // A queue row's site (queue-file columns) comes first.
+    let (lon, rest) = demo_site.split_once(',').expect("lon");
+    let (lat, h) = rest.split_once(',').expect("lat");
+    let row = bary::overrides_from_columns(|k| match k {
+        "site_lon" => Some(lon),
+        "site_lat" => Some(lat),
+        "site_height" => Some(h),
+        _ => None,
+    })
+    .expect("row");
+    target.bary = Some(row.clone());
+    let l = core.load(&target).expect("loads");
+    let want_row = bary::correction_kms(&meta, &row).expect("computable");
+    assert_eq!(l.bary.as_ref().map(|c| c.kms), Ok(want_row));
+    assert!((want_row - want).abs() > 1e-3, "the two sites differ");
 }
 
 #[test]
