@@ -15,7 +15,7 @@ use std::path::{Path, PathBuf};
 use std::time::Instant;
 use zsift::identify::{Analysis, Identifier, Settings};
 use zsift::scan::{self, Format, Writer};
-use zsift::spectrum::{ReadOptions, Spectrum};
+use zsift::spectrum::Spectrum;
 
 const PIXELS: usize = 4000;
 
@@ -95,7 +95,7 @@ fn time(inputs: &[PathBuf], a: &dyn scan::Analyse, jobs: usize) -> (f64, usize) 
     let s = scan::run(
         inputs,
         a,
-        &ReadOptions::default(),
+        &scan::Options::default(),
         jobs,
         |r| w.write(r),
         &|_| {},

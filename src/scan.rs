@@ -20,6 +20,7 @@
 
 use crate::identify::{Analysis, FeatureFlag, Identifier};
 use crate::lines::ObjectClass;
+use crate::physics::bary::BaryOverrides;
 use crate::spectrum::{self, ReadOptions, Spectrum, SpectrumError};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -303,17 +304,33 @@ fn display_path(path: &Path) -> String {
     crate::text::clean(&path.to_string_lossy())
 }
 
-/// Build the output record of an analysed spectrum.
-pub fn record_ok(path: &Path, spectrum: &Spectrum, analysis: &Analysis) -> Record {
-    // Barycentric correction from the file's own metadata; when it cannot be
-    // made, the fields stay null and a warning says what is missing.
-    let bary = crate::physics::bary::compute(
-        &spectrum.meta,
-        &crate::physics::bary::BaryOverrides::default(),
-    );
+/// What the scan needs besides the analyser: how to read the files and what
+/// the user supplied for the barycentric correction.
+#[derive(Debug, Clone, Default)]
+pub struct Options {
+    /// Reader options (medium of undeclared files).
+    pub read: ReadOptions,
+    /// Time, coordinates and site supplied by the user, and the configured
+    /// named sites (`BaryOverrides::replace` says whether they win over the
+    /// files' own values or only fill gaps).
+    pub bary: BaryOverrides,
+}
+
+/// Build the output record of an analysed spectrum; `bary` is what the user
+/// supplied for the barycentric correction (the default: the file alone).
+pub fn record_ok(
+    path: &Path,
+    spectrum: &Spectrum,
+    analysis: &Analysis,
+    bary: &BaryOverrides,
+) -> Record {
+    // Barycentric correction from the file's metadata and the user's values;
+    // when it cannot be made, the fields stay null and a warning says what is
+    // missing.
+    let bary = crate::physics::bary::compute(&spectrum.meta, bary);
     let (corr, bary_warning) = match &bary {
         Ok(c) => (Some(c.kms), None),
-        Err(e) => (None, Some(format!("no barycentric correction: {e}"))),
+        Err(e) => (None, Some(e.to_string())),
     };
     let lines = analysis
         .features
@@ -411,13 +428,13 @@ pub fn record_error(path: &Path, message: &str) -> Record {
 
 /// Read and analyse one input; never panics (a panic inside the analysis is
 /// caught and reported as an internal error for that input).
-pub fn process(path: &Path, analyser: &dyn Analyse, opts: &ReadOptions) -> Record {
-    let spectrum = match spectrum::read(path, opts) {
+pub fn process(path: &Path, analyser: &dyn Analyse, opts: &Options) -> Record {
+    let spectrum = match spectrum::read(path, &opts.read) {
         Ok(s) => s,
         Err(e) => return record_error(path, &error_text(&e)),
     };
     match std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| analyser.analyse(&spectrum))) {
-        Ok(a) => record_ok(path, &spectrum, &a),
+        Ok(a) => record_ok(path, &spectrum, &a, &opts.bary),
         Err(_) => record_error(
             path,
             &format!(
@@ -619,7 +636,7 @@ impl Summary {
 pub fn run(
     inputs: &[PathBuf],
     analyser: &dyn Analyse,
-    opts: &ReadOptions,
+    opts: &Options,
     jobs: usize,
     mut emit: impl FnMut(&Record) -> Result<(), ScanError>,
     tick: &(dyn Fn(&Record) + Sync),

@@ -8,6 +8,7 @@ use std::path::Path;
 use std::process::Command;
 use std::time::Duration;
 use zsift::decisions::{Status, replay};
+use zsift::tui::keys::{Action, KeyMap};
 
 /// An invented emission-line spectrum as CSV (wavelength in Angstrom, flux, error).
 fn write_spectrum(path: &Path, name: &str, line_at: f64) {
@@ -41,9 +42,14 @@ fn wait_for(log: &Path, what: &str, ok: impl Fn(&zsift::decisions::Replay) -> bo
 }
 
 fn spawn(dir: &Path, log: &Path) -> OsSession {
+    spawn_on(&dir.join("queue"), dir, log)
+}
+
+/// `zsift review INPUT` in an 80x24 pseudo-terminal, with no config file.
+fn spawn_on(input: &Path, dir: &Path, log: &Path) -> OsSession {
     let mut cmd = Command::new(env!("CARGO_BIN_EXE_zsift"));
     cmd.arg("review")
-        .arg(dir.join("queue"))
+        .arg(input)
         .arg("--log")
         .arg(log)
         .arg("--observer")
@@ -171,5 +177,128 @@ fn sigterm_restores_the_terminal_and_keeps_every_saved_decision() {
     assert_eq!(
         replay(&log).expect("replay").status("Tern-1"),
         Status::Rejected
+    );
+}
+
+/// The first single-character key the help overlay lists for `action` (the
+/// overlay is generated from the default key map, so these are the keys a
+/// person reads there).
+fn help_key(action: Action) -> String {
+    let rows = KeyMap::default().help_rows(true);
+    let (keys, _) = rows
+        .iter()
+        .find(|(_, d)| *d == action.description())
+        .expect("the action is in the help overlay");
+    keys.split(' ')
+        .find(|k| k.chars().count() == 1)
+        .expect("a one-character key")
+        .to_string()
+}
+
+/// The records of one target's log file, as written on disk.
+fn records_of(log: &Path, target: &str) -> Vec<serde_json::Value> {
+    let file = log.join(zsift::decisions::log_file_name(target));
+    std::fs::read_to_string(&file)
+        .unwrap_or_default()
+        .lines()
+        .map(|l| serde_json::from_str(l).expect("a JSON record"))
+        .collect()
+}
+
+#[test]
+fn accepting_one_demo_target_and_flagging_another_logs_target_action_and_z() {
+    // Three files of the committed demo night (invented; complete metadata,
+    // so the barycentric correction is known).
+    let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo");
+    let files = [
+        ("CVO 2150+3425", "07_CVO2150+3425_table.fits"),
+        ("CVO 0337+6716", "13_CVO0337+6716_csv.csv"),
+        ("CVO 2359+2646", "27_CVO2359+2646_table.fits"),
+    ];
+    let tmp = tempfile::tempdir().expect("temp dir");
+    let mut queue = String::from("path,target\n");
+    for (name, file) in files {
+        let path = demo.join(file);
+        assert!(path.is_file(), "{}", path.display());
+        queue.push_str(&format!("{},{name}\n", path.display()));
+    }
+    let qfile = tmp.path().join("queue.csv");
+    std::fs::write(&qfile, queue).expect("queue");
+    let log = tmp.path().join("log");
+
+    let (accept, flag, quit) = (
+        help_key(Action::Accept),
+        help_key(Action::Reobserve),
+        help_key(Action::Quit),
+    );
+    assert_eq!(
+        (accept.as_str(), flag.as_str(), quit.as_str()),
+        ("a", "f", "q")
+    );
+    let mut p = spawn_on(&qfile, tmp.path(), &log);
+    p.expect("1/3").expect("first target shown");
+    // The candidate title shows z_bary once the worker has analysed the file
+    // (before that there is nothing to accept).
+    p.expect("z_bary").expect("first target analysed");
+    p.send(&accept).expect("send");
+    wait_for(&log, "accept", |r| r.status(files[0].0) == Status::Accepted);
+    p.send(&flag).expect("send");
+    wait_for(&log, "flag", |r| r.status(files[1].0) == Status::Flagged);
+    p.send(&quit).expect("send");
+    p.expect("entries written this session")
+        .expect("goodbye line");
+    p.expect(Eof).expect("exits");
+
+    // What scan says about the first file: the review accepted the same z.
+    let out = Command::new(env!("CARGO_BIN_EXE_zsift"))
+        .arg("scan")
+        .arg(demo.join(files[0].1))
+        .env("ZSIFT_CONFIG", tmp.path().join("no-config.toml"))
+        .output()
+        .expect("scan runs");
+    let scanned: serde_json::Value = serde_json::from_slice(&out.stdout).expect("one JSON record");
+    let best = &scanned["candidates"][0];
+
+    let accepted = records_of(&log, files[0].0);
+    assert_eq!(accepted.len(), 1, "{accepted:?}");
+    let r = &accepted[0];
+    assert_eq!(r["target"], files[0].0);
+    assert_eq!(r["action"], "accept");
+    assert_eq!(r["observer"], "pty-test");
+    assert_eq!(r["source"]["kind"], "candidate");
+    assert_eq!(r["source"]["rank"], 1);
+    assert_eq!(r["solution"]["z"], best["z"], "screen and scan agree");
+    assert_eq!(r["solution"]["z_bary"], best["z_bary"]);
+    assert_eq!(
+        r["solution"]["velocity_bary_kms"],
+        best["velocity_bary_kms"]
+    );
+    assert_eq!(
+        r["solution"]["barycentric_correction_kms"],
+        scanned["barycentric_correction_kms"]
+    );
+    // The generator's truth (demo/truth.csv, kept equal to the generator by
+    // tests/demo_data.rs); the galaxy rule of the accuracy sets, 0.001 (1+z).
+    let truth = std::fs::read_to_string(demo.join("truth.csv")).expect("truth");
+    let true_z: f64 = truth
+        .lines()
+        .find(|l| l.starts_with(files[0].1))
+        .and_then(|l| l.split(',').nth(5))
+        .and_then(|z| z.parse().ok())
+        .expect("truth row");
+    let z = r["solution"]["z"].as_f64().expect("z");
+    assert!(
+        (z - true_z).abs() < 0.001 * (1.0 + true_z),
+        "z = {z}, truth {true_z}"
+    );
+
+    let flagged = records_of(&log, files[1].0);
+    assert_eq!(flagged.len(), 1, "{flagged:?}");
+    assert_eq!(flagged[0]["target"], files[1].0);
+    assert_eq!(flagged[0]["action"], "flag");
+    assert!(flagged[0]["solution"]["z"].is_null(), "a flag carries no z");
+    assert!(
+        records_of(&log, files[2].0).is_empty(),
+        "the third is untouched"
     );
 }

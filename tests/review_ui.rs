@@ -173,6 +173,14 @@ fn class_and_subclass_set_by_hand_are_accepted_at_the_shown_redshift() {
             by_hand: true,
             grade: None,
             lines: fx::LINES.iter().map(|l| l.0.to_string()).collect(),
+            // Target 0's file says time, coordinates and site.
+            bary_kms: Some(
+                zsift::physics::bary::correction_kms(
+                    &fx::loaded(0).spectrum.meta,
+                    &Default::default()
+                )
+                .expect("fixture 0 has a correction")
+            ),
         }
     );
 }
@@ -394,6 +402,89 @@ fn help_opens_and_any_key_closes_it() {
     assert!(recorded(&e).is_empty(), "the closing key does nothing else");
 }
 
+// ---- barycentric values ----------------------------------------------------
+
+/// The correction of fixture target `i` as the physics computes it from the
+/// same metadata (what the worker stores), and (z_bary, v_bary) for `z`.
+fn bary_of(i: usize, z: f64) -> (f64, f64, f64) {
+    let meta = &fx::loaded(i).spectrum.meta;
+    let corr = zsift::physics::bary::correction_kms(meta, &Default::default())
+        .expect("fixture target has a correction");
+    let (zb, vb) = zsift::physics::bary::corrected(z, Some(corr));
+    (corr, zb.expect("z_bary"), vb.expect("v_bary"))
+}
+
+#[test]
+fn the_candidate_title_gives_the_correction_and_the_shown_candidates_barycentric_values() {
+    let mut app = fx::app();
+    let (corr, zb, vb) = bary_of(0, fx::ZS[0]);
+    // Observed and barycentric differ (the fixture's correction is km/s sized).
+    assert!(corr.abs() > 1.0 && (zb - fx::ZS[0]).abs() > 1e-6);
+    let shown = text(&screen(&app, 80, 24));
+    let want = format!("bary corr {corr:+.3} km/s: z_bary {zb:.6} v_bary {vb:.1} km/s");
+    assert!(shown.contains(&want), "{shown}\nwants {want}");
+    // Observed values stay in the list.
+    assert!(shown.contains(&format!("{:.5}", fx::ZS[0])));
+    // The wide layout has a narrower list: the shorter form.
+    let wide = text(&screen(&app, 100, 30));
+    let want = format!("bary {corr:+.2} km/s z_bary {zb:.6}");
+    assert!(wide.contains(&want), "{wide}\nwants {want}");
+    // Another candidate under the cursor: its own barycentric z.
+    let _ = press(&mut app, [code(KeyCode::Down)]);
+    let z2 = app.shown_candidate().expect("candidate").z;
+    let (_, zb2, _) = bary_of(0, z2);
+    assert!(text(&screen(&app, 80, 24)).contains(&format!("z_bary {zb2:.6}")));
+    // A nudged redshift: the barycentric z of the nudged value.
+    let _ = press(&mut app, [code(KeyCode::Up), key('>')]);
+    let zn = app.nudge.as_ref().expect("nudged").z;
+    let (_, zbn, _) = bary_of(0, zn);
+    let shown = text(&screen(&app, 80, 24));
+    assert!(shown.contains(&format!("z_bary {zbn:.6}")), "{shown}");
+}
+
+#[test]
+fn a_target_whose_correction_cannot_be_made_says_which_input_is_missing() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('n')]);
+    let shown = text(&screen(&app, 80, 24));
+    assert!(shown.contains("no bary correction: needs site"), "{shown}");
+    let _ = press(&mut app, [key('n')]);
+    let shown = text(&screen(&app, 80, 24));
+    assert!(
+        shown.contains("no bary correction: site 'Kestrel Ridge' not configured"),
+        "{shown}"
+    );
+    let _ = press(&mut app, [key('n')]);
+    let shown = text(&screen(&app, 80, 24));
+    assert!(
+        shown.contains("no bary correction: needs obs time, RA/Dec, site"),
+        "{shown}"
+    );
+    // Narrow list (wide layout): the short form still names them.
+    let wide = text(&screen(&app, 100, 30));
+    assert!(wide.contains("no bary: obs time, RA/Dec, site"), "{wide}");
+}
+
+#[test]
+fn an_accepted_decision_carries_the_correction_and_its_barycentric_values() {
+    let mut app = fx::app();
+    let e = press(&mut app, [key('a')]);
+    let Entry::Decide { decision, .. } = recorded(&e).remove(0) else {
+        panic!()
+    };
+    let (corr, zb, vb) = bary_of(0, fx::ZS[0]);
+    assert_eq!(decision.bary_kms, Some(corr));
+    assert_eq!(decision.bary(), (Some(zb), Some(vb)));
+    // A target without a correction: none recorded, and no barycentric z.
+    let e = press(&mut app, [key('a')]);
+    let Entry::Decide { target, decision } = recorded(&e).remove(0) else {
+        panic!()
+    };
+    assert_eq!(target, 1);
+    assert_eq!(decision.bary_kms, None);
+    assert_eq!(decision.bary(), (None, None));
+}
+
 // ---- screens --------------------------------------------------------------
 
 fn snap(name: &str, app: &App, w: u16, h: u16) {
@@ -490,6 +581,13 @@ fn screen_nudged_waiting_for_the_core() {
     let mut app = fx::app();
     let _ = press(&mut app, [key('>')]);
     snap("nudged_80x24", &app, 80, 24);
+}
+
+#[test]
+fn screen_target_without_a_site() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('n')]);
+    snap("no_site_80x24", &app, 80, 24);
 }
 
 #[test]

@@ -169,3 +169,221 @@ fn the_real_identifier_gives_identical_output_for_one_and_two_jobs() {
         }
     }
 }
+
+// ---- barycentric correction options (issue 8) -------------------------------
+
+/// The barycentric FITS fixtures and their astropy values
+/// (`tests/fixtures/bary_astropy.json`, written by
+/// `tests/fixtures/make_bary_fixtures.py`; astropy version in the fixture).
+fn bary_fixture() -> (std::path::PathBuf, serde_json::Value) {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures");
+    let fx: serde_json::Value =
+        serde_json::from_str(include_str!("fixtures/bary_astropy.json")).expect("fixture");
+    (dir, fx["fits_headers"].clone())
+}
+
+/// The fixture site as `LON,LAT,HEIGHT`.
+fn fixture_lonlat(h: &serde_json::Value) -> String {
+    format!(
+        "{},{},{}",
+        h["site_lon_deg"].as_f64().expect("lon"),
+        h["site_lat_deg"].as_f64().expect("lat"),
+        h["site_height_m"].as_f64().expect("height")
+    )
+}
+
+/// Scan one file with `args`, with `config` as the config file; the single
+/// output record.
+fn scan_one(file: &std::path::Path, args: &[&str], config: &std::path::Path) -> serde_json::Value {
+    let out = zsift()
+        .arg("scan")
+        .args(args)
+        .arg(file)
+        .env("ZSIFT_CONFIG", config)
+        .output()
+        .expect("runs");
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8(out.stdout).expect("utf8");
+    assert_eq!(text.lines().count(), 1, "{text}");
+    serde_json::from_str(text.trim()).expect("json")
+}
+
+/// Every candidate's z_bary / velocity_bary_kms is its z composed with `corr`.
+fn assert_candidates_follow(rec: &serde_json::Value, corr: Option<f64>) {
+    let cands = rec["candidates"].as_array().expect("candidates");
+    assert!(!cands.is_empty(), "the fixture spectrum yields candidates");
+    for c in cands {
+        let z = c["z"].as_f64().expect("z");
+        let (zb, vb) = zsift::physics::bary::corrected(z, corr);
+        assert_eq!(c["z_bary"].as_f64(), zb, "{c}");
+        assert_eq!(c["velocity_bary_kms"].as_f64(), vb, "{c}");
+    }
+}
+
+#[test]
+fn a_file_without_a_site_gets_a_correction_only_when_the_site_is_given() {
+    let (dir, h) = bary_fixture();
+    let tmp = tempfile::tempdir().expect("tmp");
+    let no_config = tmp.path().join("none.toml");
+    let file = dir.join("bary_fits/no_site.fits");
+
+    let rec = scan_one(&file, &[], &no_config);
+    assert!(rec["barycentric_correction_kms"].is_null(), "{rec}");
+    assert_candidates_follow(&rec, None);
+    let warnings = rec["warnings"].to_string();
+    assert!(warnings.contains("missing observatory site"), "{warnings}");
+
+    let lonlat = fixture_lonlat(&h);
+    let rec = scan_one(&file, &[&format!("--site-lonlat={lonlat}")], &no_config);
+    // What the physics gives for the same metadata and the same site.
+    let meta = zsift::spectrum::read(&file, &Default::default())
+        .expect("reads")
+        .meta;
+    let ov = zsift::physics::bary::BaryOverrides {
+        site: Some(zsift::physics::bary::parse_lonlat(&lonlat).expect("site")),
+        ..Default::default()
+    };
+    let want = zsift::physics::bary::correction_kms(&meta, &ov).expect("computable");
+    assert_eq!(rec["barycentric_correction_kms"].as_f64(), Some(want));
+    assert_candidates_follow(&rec, Some(want));
+    assert!(!rec["warnings"].to_string().contains("barycentric"));
+}
+
+#[test]
+fn a_site_named_in_the_header_or_by_option_is_found_in_the_configured_sites() {
+    let (dir, h) = bary_fixture();
+    let tmp = tempfile::tempdir().expect("tmp");
+    let config = tmp.path().join("review.toml");
+    std::fs::write(
+        &config,
+        format!(
+            "[[sites]]\nname = \"{}\"\nlon = {}\nlat = {}\nheight = {}\n",
+            h["site_name"].as_str().expect("name").to_uppercase(),
+            h["site_lon_deg"],
+            h["site_lat_deg"],
+            h["site_height_m"]
+        ),
+    )
+    .expect("config");
+    // The header's OBSERVAT names the site; the config knows it (any case).
+    let rec = scan_one(&dir.join("bary_fits/site_by_name.fits"), &[], &config);
+    // Check value: astropy SkyCoord.radial_velocity_correction (fixture).
+    let case = h["cases"]
+        .as_array()
+        .expect("cases")
+        .iter()
+        .find(|c| c["file"] == "bary_fits/site_by_name.fits")
+        .expect("case");
+    let astropy = case["correction_kms"].as_f64().expect("value");
+    let got = rec["barycentric_correction_kms"]
+        .as_f64()
+        .expect("computed");
+    assert!(
+        (got - astropy).abs() < 0.001,
+        "{got} vs astropy {astropy} km/s"
+    );
+    assert_candidates_follow(&rec, Some(got));
+
+    // --site NAME for a file without any site: the same as giving the
+    // configured coordinates by hand.
+    let file = dir.join("bary_fits/no_site.fits");
+    let by_name = scan_one(&file, &["--site", "kestrel hill"], &config);
+    let by_hand = scan_one(
+        &file,
+        &[&format!("--site-lonlat={}", fixture_lonlat(&h))],
+        &config,
+    );
+    assert!(by_name["barycentric_correction_kms"].is_number());
+    assert_eq!(
+        by_name["barycentric_correction_kms"],
+        by_hand["barycentric_correction_kms"]
+    );
+
+    // An unknown name is a usage error naming the config file.
+    let out = zsift()
+        .args(["scan", "--site", "Nowhere Peak"])
+        .arg(&file)
+        .env("ZSIFT_CONFIG", &config)
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("Nowhere Peak") && err.contains(&config.display().to_string()),
+        "{err}"
+    );
+    // A broken site entry is an error naming the file and the entry.
+    std::fs::write(&config, "[[sites]]\nname = \"x\"\nlon = 3\n").expect("config");
+    let out = zsift()
+        .arg("scan")
+        .arg(&file)
+        .env("ZSIFT_CONFIG", &config)
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("entry 1") && err.contains("lat"), "{err}");
+}
+
+#[test]
+fn options_fill_gaps_and_replace_the_files_values_only_with_bary_replace() {
+    let (dir, h) = bary_fixture();
+    let tmp = tempfile::tempdir().expect("tmp");
+    let no_config = tmp.path().join("none.toml");
+    // This file has its own OBSGEO-X/Y/Z.
+    let name = "bary_fits/iso_start_exptime_xyz.fits";
+    let file = dir.join(name);
+    let lonlat = format!("--site-lonlat={}", fixture_lonlat(&h));
+    let filling = scan_one(&file, &[&lonlat], &no_config);
+    let case = h["cases"]
+        .as_array()
+        .expect("cases")
+        .iter()
+        .find(|c| c["file"] == name)
+        .expect("case");
+    // Check value: astropy, with the file's own site (fixture).
+    let astropy = case["correction_kms"].as_f64().expect("value");
+    let got = filling["barycentric_correction_kms"]
+        .as_f64()
+        .expect("computed");
+    assert!((got - astropy).abs() < 0.001, "{got} vs {astropy}");
+
+    // The file's site is the fixture site itself; replace it with another
+    // (the demo's invented one, 52 degrees west and 16 north of it).
+    use zsift::synth::demo::{HEIGHT_M, LATITUDE_DEG, LONGITUDE_DEG};
+    let other = format!("{LONGITUDE_DEG},{LATITUDE_DEG},{HEIGHT_M}");
+    let replaced = scan_one(
+        &file,
+        &[&format!("--site-lonlat={other}"), "--bary-replace"],
+        &no_config,
+    );
+    let meta = zsift::spectrum::read(&file, &Default::default())
+        .expect("reads")
+        .meta;
+    let ov = zsift::physics::bary::BaryOverrides {
+        site: Some(zsift::physics::bary::parse_lonlat(&other).expect("site")),
+        replace: true,
+        ..Default::default()
+    };
+    let want = zsift::physics::bary::correction_kms(&meta, &ov).expect("computable");
+    assert_eq!(replaced["barycentric_correction_kms"].as_f64(), Some(want));
+    assert!(
+        (want - got).abs() > 0.05,
+        "another site changes the rotational part: {want} vs {got}"
+    );
+
+    // A usage error in the time option exits 2.
+    let out = zsift()
+        .args(["scan", "--obs-time", "2026-13-40T00:00:00"])
+        .arg(&file)
+        .env("ZSIFT_CONFIG", &no_config)
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--obs-time"));
+}

@@ -7,7 +7,6 @@ mod common;
 use serde_json::Value;
 use std::path::PathBuf;
 use zsift::scan::{self, Format, Record, Shard, Writer};
-use zsift::spectrum::ReadOptions;
 
 fn analyser() -> impl Fn(&zsift::spectrum::Spectrum) -> zsift::identify::Analysis + Sync {
     common::fake_analysis
@@ -31,7 +30,7 @@ fn jsonl(inputs: &[PathBuf], jobs: usize) -> (String, scan::Summary) {
     let summary = scan::run(
         inputs,
         &a,
-        &ReadOptions::default(),
+        &scan::Options::default(),
         jobs,
         |r| w.write(r),
         &|_| {},
@@ -209,7 +208,7 @@ fn the_csv_form_has_one_row_per_input_with_the_rank_one_answer() {
     scan::run(
         &inputs,
         &a,
-        &ReadOptions::default(),
+        &scan::Options::default(),
         2,
         |r: &Record| {
             rows.push(scan::csv_row(r));

@@ -56,9 +56,6 @@ pub struct BaryOpts {
 
 impl BaryOpts {
     /// The overrides these options describe, with the configured named sites.
-    // Not yet flattened into a command: `scan` (not landed yet) and `review`
-    // take these options when the correction is wired into their output.
-    #[allow(dead_code)]
     pub fn overrides(&self, sites: Vec<NamedSite>) -> anyhow::Result<BaryOverrides> {
         let time = match &self.obs_time {
             Some(t) => Some((
@@ -91,8 +88,11 @@ impl BaryOpts {
             && bary::find_site(&sites, name).is_none()
         {
             anyhow::bail!(
-                "--site: no site named '{}' in the config file's [[sites]] list",
-                zsift::text::clean(name)
+                "--site: no site named '{}' in the [[sites]] list of the config file {}",
+                zsift::text::clean(name),
+                zsift::tui::config::default_path()
+                    .map(|p| p.display().to_string())
+                    .unwrap_or_else(|| "(none: set ZSIFT_CONFIG)".into())
             );
         }
         Ok(BaryOverrides {
@@ -106,4 +106,14 @@ impl BaryOpts {
             replace: self.bary_replace,
         })
     }
+}
+
+/// The named sites of the user's config file (`[[sites]]`; none when there is
+/// no config file), for commands that do not otherwise read the config.
+pub fn configured_sites() -> anyhow::Result<Vec<NamedSite>> {
+    let Some(path) = zsift::tui::config::default_path() else {
+        return Ok(Vec::new());
+    };
+    let cfg = zsift::tui::config::Config::load(&path)?;
+    Ok(cfg.named_sites()?)
 }

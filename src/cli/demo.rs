@@ -14,7 +14,7 @@
 use super::review::{Display, Session, print_config, run_session, targets_of};
 use anyhow::Context;
 use std::io::{IsTerminal, Write};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use zsift::identify::{Identifier, Settings};
 use zsift::queue::Queue;
 use zsift::spectrum::ReadOptions;
@@ -37,26 +37,61 @@ pub struct Args {
     pub display: Display,
 }
 
-/// The demo queue file: the source tree's, else a regenerated copy.
+/// The demo queue file: the source tree's, else a regenerated copy in the
+/// user data folder.
 pub fn demo_queue() -> anyhow::Result<PathBuf> {
-    let bundled = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("demo")
-        .join("queue.csv");
-    if bundled.is_file() {
-        return Ok(bundled);
+    let bundled = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("demo");
+    let data = zsift::tui::config::dirs().map(|d| d.data_dir().to_path_buf());
+    locate_or_write(&bundled, data.as_deref())
+}
+
+/// Name of the regenerated night's folder inside the user data folder.
+const REGENERATED: &str = "demo-night";
+/// Marker in the regenerated folder: the zsift version that wrote it (a newer
+/// generator rewrites the night).
+const VERSION_MARKER: &str = ".zsift-demo-version";
+
+/// The demo queue: `bundled/queue.csv` when that night is complete, else
+/// `<data_dir>/demo-night/queue.csv`, written by the project's generator
+/// (`synth::demo::write_night`) when it is missing, incomplete or from another
+/// zsift version.
+pub fn locate_or_write(bundled: &Path, data_dir: Option<&Path>) -> anyhow::Result<PathBuf> {
+    if night_is_complete(bundled) {
+        return Ok(bundled.join("queue.csv"));
     }
-    let dirs = zsift::tui::config::dirs()
-        .context("the demo folder is missing and no user data folder is known")?;
-    let dir = dirs.data_dir().join("demo-night");
-    let queue = dir.join("queue.csv");
-    if queue.is_file() {
-        return Ok(queue);
+    let data_dir = data_dir.with_context(|| {
+        format!(
+            "the demo night is not at {} and no user data folder is known to write it to",
+            bundled.display()
+        )
+    })?;
+    let dir = data_dir.join(REGENERATED);
+    let marker = dir.join(VERSION_MARKER);
+    let current = std::fs::read_to_string(&marker).is_ok_and(|v| v.trim() == zsift::VERSION);
+    if !(current && night_is_complete(&dir)) {
+        eprintln!(
+            "zsift: the bundled demo night is not at {}; writing it to {}",
+            bundled.display(),
+            dir.display()
+        );
+        zsift::synth::demo::write_night(&dir)
+            .with_context(|| format!("writing the demo night to {}", dir.display()))?;
+        std::fs::write(&marker, format!("{}\n", zsift::VERSION))
+            .with_context(|| format!("writing {}", marker.display()))?;
+        if !night_is_complete(&dir) {
+            anyhow::bail!("the demo night written to {} is incomplete", dir.display());
+        }
     }
-    anyhow::bail!(
-        "the demo night is not at {} nor at {}",
-        bundled.display(),
-        queue.display()
-    )
+    Ok(dir.join("queue.csv"))
+}
+
+/// True when `dir/queue.csv` is a queue file without problems whose every
+/// spectrum file is there.
+fn night_is_complete(dir: &Path) -> bool {
+    match Queue::from_queue_file(&dir.join("queue.csv")) {
+        Ok(q) => !q.is_empty() && q.problems.is_empty() && q.iter().all(|i| i.path.is_file()),
+        Err(_) => false,
+    }
 }
 
 fn log_dir(args: &Args) -> anyhow::Result<PathBuf> {
@@ -130,7 +165,65 @@ pub fn run(args: &Args) -> anyhow::Result<u8> {
             targets: targets_of(&queue),
             log_dir,
             read: ReadOptions::default(),
+            // The demo files say everything; configured sites are harmless.
+            bary: zsift::physics::bary::BaryOverrides {
+                sites: super::bary_opts::configured_sites()?,
+                ..Default::default()
+            },
         },
         &args.display,
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn without_the_bundled_night_the_generator_writes_a_complete_queue_that_loads() {
+        let tmp = tempfile::tempdir().expect("tmp");
+        let gone = tmp.path().join("moved-checkout").join("demo");
+        let data = tmp.path().join("data");
+        let q = locate_or_write(&gone, Some(&data)).expect("written");
+        assert_eq!(q, data.join(REGENERATED).join("queue.csv"));
+        let queue = Queue::open(&q).expect("the queue loads");
+        assert_eq!(queue.len(), 36, "the whole night");
+        assert!(queue.problems.is_empty(), "{:?}", queue.problems);
+        // The same night as the committed one: same queue file, and every
+        // spectrum reads.
+        let bundled = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo/queue.csv");
+        assert_eq!(
+            std::fs::read(&q).expect("read"),
+            std::fs::read(bundled).expect("committed queue")
+        );
+        for item in queue.iter() {
+            zsift::spectrum::read(&item.path, &ReadOptions::default())
+                .unwrap_or_else(|e| panic!("{}: {e}", item.path.display()));
+        }
+
+        // A complete copy is used as it is (not rewritten) ...
+        let readme = data.join(REGENERATED).join("README.md");
+        std::fs::write(&readme, "kept").expect("write");
+        assert_eq!(locate_or_write(&gone, Some(&data)).expect("found"), q);
+        assert_eq!(std::fs::read_to_string(&readme).expect("read"), "kept");
+        // ... an incomplete one is written again.
+        let first = queue.iter().next().expect("item").path.clone();
+        std::fs::remove_file(&first).expect("remove");
+        assert_eq!(locate_or_write(&gone, Some(&data)).expect("rewritten"), q);
+        assert!(first.is_file());
+        assert_ne!(std::fs::read_to_string(&readme).expect("read"), "kept");
+    }
+
+    #[test]
+    fn the_bundled_night_wins_when_it_is_complete_and_no_data_folder_is_an_error() {
+        let bundled = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo");
+        let tmp = tempfile::tempdir().expect("tmp");
+        assert_eq!(
+            locate_or_write(&bundled, Some(tmp.path())).expect("bundled"),
+            bundled.join("queue.csv")
+        );
+        assert!(!tmp.path().join(REGENERATED).exists(), "nothing written");
+        let e = locate_or_write(&tmp.path().join("none"), None).expect_err("nowhere to write");
+        assert!(e.to_string().contains("no user data folder"), "{e}");
+    }
 }

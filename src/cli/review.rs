@@ -6,6 +6,7 @@ use std::path::{Path, PathBuf};
 use std::sync::Arc;
 use zsift::decisions::{Log, observer_name, replay};
 use zsift::identify::{Identifier, Settings};
+use zsift::physics::bary::BaryOverrides;
 use zsift::queue::Queue;
 use zsift::spectrum::{MediumChoice, ReadOptions};
 use zsift::tui::app::{App, Target};
@@ -65,6 +66,9 @@ pub struct Args {
     /// Display and identity options.
     #[command(flatten)]
     pub display: Display,
+    /// What the barycentric correction needs, for files that lack it.
+    #[command(flatten)]
+    pub bary: super::bary_opts::BaryOpts,
 }
 
 /// Print the config location and example (for `--print-config`).
@@ -85,6 +89,9 @@ pub struct Session {
     pub log_dir: PathBuf,
     /// Reader options.
     pub read: ReadOptions,
+    /// What the user supplied for the barycentric correction, with the
+    /// configured named sites.
+    pub bary: BaryOverrides,
 }
 
 /// Open the review on `session` in the terminal; returns the exit code.
@@ -133,6 +140,7 @@ pub fn run_session(session: Session, display: &Display) -> anyhow::Result<u8> {
     let analyser = Arc::new(Core {
         identifier,
         read: session.read,
+        bary: session.bary,
     });
     let mut journal = DecisionLog::new(log, &observer);
     let summary = zsift::tui::run::run(app, analyser, &mut journal)?;
@@ -160,6 +168,7 @@ pub fn targets_of(queue: &Queue) -> Vec<Target> {
         .map(|item| Target {
             name: item.target.clone(),
             path: item.path.clone(),
+            bary: item.bary.clone(),
         })
         .collect()
 }
@@ -194,6 +203,14 @@ pub fn run(args: &Args) -> anyhow::Result<u8> {
         .clone()
         .or(cfg.log_dir.clone())
         .unwrap_or_else(|| queue.default_log_dir());
+    let bary = match args.bary.overrides(cfg.named_sites()?) {
+        Ok(b) => b,
+        Err(e) => {
+            // A bad --obs-time, --exptime or --site is a usage error.
+            eprintln!("zsift review: {}", zsift::text::clean(&format!("{e:#}")));
+            return Ok(2);
+        }
+    };
     let medium = match args.medium {
         MediumArg::Auto => MediumChoice::Auto,
         MediumArg::Air => MediumChoice::Air,
@@ -204,6 +221,7 @@ pub fn run(args: &Args) -> anyhow::Result<u8> {
             targets: targets_of(&queue),
             log_dir,
             read: ReadOptions { medium },
+            bary,
         },
         &args.display,
     )

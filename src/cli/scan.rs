@@ -56,6 +56,9 @@ pub struct Args {
     /// (or CSV) outputs of shards 1/N..N/N, given in shard order.
     #[arg(long, conflicts_with_all = ["shard", "medium", "jobs"])]
     pub merge: bool,
+    /// What the barycentric correction needs, for files that lack it.
+    #[command(flatten)]
+    pub bary: super::bary_opts::BaryOpts,
 }
 
 fn parse_shard(s: &str) -> Result<Shard, String> {
@@ -86,11 +89,21 @@ pub fn run(args: &Args) -> anyhow::Result<u8> {
         Some(s) => s.select(&all),
         None => all,
     };
-    let opts = ReadOptions {
-        medium: match args.medium {
-            MediumArg::Auto => MediumChoice::Auto,
-            MediumArg::Air => MediumChoice::Air,
-            MediumArg::Vacuum => MediumChoice::Vacuum,
+    let opts = scan::Options {
+        read: ReadOptions {
+            medium: match args.medium {
+                MediumArg::Auto => MediumChoice::Auto,
+                MediumArg::Air => MediumChoice::Air,
+                MediumArg::Vacuum => MediumChoice::Vacuum,
+            },
+        },
+        bary: match args.bary.overrides(super::bary_opts::configured_sites()?) {
+            Ok(b) => b,
+            Err(e) => {
+                // A bad --obs-time, --exptime or --site is a usage error.
+                eprintln!("zsift scan: {}", zsift::text::clean(&format!("{e:#}")));
+                return Ok(2);
+            }
         },
     };
     let jobs = args.jobs.map(|j| j as usize).unwrap_or_else(|| {

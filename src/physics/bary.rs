@@ -178,6 +178,55 @@ impl From<(String, f64, f64, f64)> for NamedSite {
     }
 }
 
+impl NamedSite {
+    /// A named site from geodetic east longitude, latitude (degrees) and
+    /// height above WGS84 (metres); errors say what is not a place on Earth.
+    pub fn geodetic(
+        name: &str,
+        longitude_deg: f64,
+        latitude_deg: f64,
+        height_m: f64,
+    ) -> Result<NamedSite, String> {
+        let site = Site {
+            longitude_deg: Some(longitude_deg),
+            latitude_deg: Some(latitude_deg),
+            height_m: Some(height_m),
+            ..Site::default()
+        };
+        check_site(&site)?;
+        Ok(NamedSite {
+            name: name.trim().to_string(),
+            longitude_deg,
+            latitude_deg,
+            height_m,
+        })
+    }
+
+    /// A named site from geocentric ITRS X, Y, Z (metres), kept as its WGS84
+    /// geodetic equivalent (ERFA `gc2gd`, Fukushima 2006: the round trip back
+    /// to X, Y, Z is exact to well below a micrometre).
+    pub fn geocentric(name: &str, xyz_m: [f64; 3]) -> Result<NamedSite, String> {
+        check_site(&Site {
+            geocentric_m: Some(xyz_m),
+            ..Site::default()
+        })?;
+        let [lon, lat, h] = erfa::transform::geocentric_to_geodetic(erfa::Ellipsoid::WGS84, xyz_m);
+        Ok(NamedSite {
+            name: name.trim().to_string(),
+            longitude_deg: lon.to_degrees(),
+            latitude_deg: lat.to_degrees(),
+            height_m: h,
+        })
+    }
+}
+
+fn check_site(site: &Site) -> Result<(), String> {
+    site_itrs(site, "site").map(|_| ()).map_err(|e| match e {
+        BaryError::Invalid { message, .. } => message,
+        other => other.to_string(),
+    })
+}
+
 /// Look a site name up in the configured list (case-insensitive, blanks
 /// trimmed); the first match wins. Returns it as a [`Site`] with its
 /// geodetic coordinates and name filled.
@@ -762,12 +811,27 @@ fn site_position(
         user.push((l.replace, v, n));
     }
     pick(user, notes, |n| {
-        resolve_site(
+        let first = resolve_site(
             &meta.site,
             "OBSGEO-X/Y/Z or site longitude/latitude",
             &sites,
             n,
-        )
+        );
+        // A file that names its observatory in OBSERVAT and its telescope in
+        // TELESCOP: the reader keeps the first as the site name; either may
+        // be the one the user configured.
+        if let Err(BaryError::Missing(m)) = &first
+            && matches!(m.as_slice(), [Missing::UnconfiguredSite(_)])
+        {
+            for key in ["OBSERVAT", "TELESCOP"] {
+                if let Some(found) = header(meta, key).and_then(|v| find_site(&sites, v))
+                    && let Some(xyz) = site_itrs(&found, "configured site")?
+                {
+                    return Ok(xyz);
+                }
+            }
+        }
+        first
     })
 }
 

@@ -11,6 +11,7 @@ use super::keys::{Action, CLASS_KEYS, Key, KeyMap, PROMPT_CANCEL, PROMPT_CONFIRM
 use super::theme::Theme;
 use crate::identify::{Analysis, Candidate, Grade};
 use crate::lines::{Catalogue, ObjectClass};
+use crate::physics::bary::{BaryError, BaryOverrides, Correction};
 use crate::physics::constants::C_KM_S;
 use crate::spectrum::Spectrum;
 use crossterm::event::{KeyCode, KeyEvent, KeyEventKind};
@@ -36,6 +37,20 @@ pub struct Target {
     pub name: String,
     /// The spectrum file.
     pub path: PathBuf,
+    /// What the queue file's row supplies for the barycentric correction
+    /// (its values win over the file's), if anything.
+    pub bary: Option<BaryOverrides>,
+}
+
+impl Target {
+    /// A queue entry with nothing but a name and a file.
+    pub fn new(name: impl Into<String>, path: impl Into<PathBuf>) -> Target {
+        Target {
+            name: name.into(),
+            path: path.into(),
+            bary: None,
+        }
+    }
 }
 
 /// A target read and analysed by the worker.
@@ -45,6 +60,20 @@ pub struct Loaded {
     pub spectrum: Spectrum,
     /// The identifier's answer.
     pub analysis: Analysis,
+    /// The barycentric correction from the file's metadata and what the
+    /// user supplied, or why it cannot be computed.
+    pub bary: Result<Correction, BaryError>,
+}
+
+/// The barycentric values shown for the candidate on screen.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BaryShown {
+    /// The correction, km/s.
+    pub correction_kms: f64,
+    /// Barycentric redshift of the shown candidate (nudged z if nudged).
+    pub z_bary: Option<f64>,
+    /// Barycentric velocity of the shown candidate, km/s (relativistic).
+    pub velocity_bary_kms: Option<f64>,
 }
 
 /// The state of one target's data.
@@ -93,6 +122,8 @@ pub struct Decision {
     pub grade: Option<Grade>,
     /// Names of the matched lines supporting it.
     pub lines: Vec<String>,
+    /// The barycentric correction of the target's file (km/s), when known.
+    pub bary_kms: Option<f64>,
 }
 
 impl Decision {
@@ -108,6 +139,16 @@ impl Decision {
             by_hand: false,
             grade: None,
             lines: Vec::new(),
+            bary_kms: None,
+        }
+    }
+
+    /// Barycentric redshift and velocity (km/s) of the accepted z, when both
+    /// z and the correction are known (`physics::bary::corrected`).
+    pub fn bary(&self) -> (Option<f64>, Option<f64>) {
+        match self.z {
+            Some(z) => crate::physics::bary::corrected(z, self.bary_kms),
+            None => (None, None),
         }
     }
 }
@@ -396,6 +437,33 @@ impl App {
             }
             None => Some(base.clone()),
         }
+    }
+
+    /// The barycentric correction of the target on screen and the values it
+    /// gives for the shown candidate, or why there is none; `None` until the
+    /// target is loaded.
+    pub fn shown_bary(&self) -> Option<Result<BaryShown, &BaryError>> {
+        let l = self.loaded()?;
+        Some(match &l.bary {
+            Ok(c) => {
+                let (z_bary, velocity_bary_kms) = match self.shown_candidate() {
+                    Some(cand) => crate::physics::bary::corrected(cand.z, Some(c.kms)),
+                    None => (None, None),
+                };
+                Ok(BaryShown {
+                    correction_kms: c.kms,
+                    z_bary,
+                    velocity_bary_kms,
+                })
+            }
+            Err(e) => Err(e),
+        })
+    }
+
+    fn bary_kms(&self) -> Option<f64> {
+        self.loaded()
+            .and_then(|l| l.bary.as_ref().ok())
+            .map(|c| c.kms)
     }
 
     /// Number of targets with a decision.
@@ -879,6 +947,7 @@ impl App {
                 by_hand,
                 grade: (!by_hand).then_some(c.grade),
                 lines: c.matched.iter().map(|m| m.line.clone()).collect(),
+                bary_kms: self.bary_kms(),
             },
         })
     }
@@ -904,6 +973,7 @@ impl App {
                     .as_ref()
                     .map(|c| c.matched.iter().map(|m| m.line.clone()).collect())
                     .unwrap_or_default(),
+                bary_kms: self.bary_kms(),
             },
         })
     }

@@ -40,6 +40,10 @@ impl DecisionLog {
                 Verdict::Reobserve => Record::flag(name, me),
                 Verdict::Conflict => return Err("a conflict is not a decision".into()),
                 Verdict::Accept => {
+                    // The barycentric values are the ones the screen showed:
+                    // the accepted (possibly nudged) z composed with the
+                    // file's correction.
+                    let (z_bary, velocity_bary_kms) = decision.bary();
                     let solution = Solution {
                         z: decision.z,
                         z_err: decision.z_err,
@@ -47,7 +51,9 @@ impl DecisionLog {
                         subclass: decision.subclass.clone(),
                         grade: decision.grade,
                         lines: decision.lines.clone(),
-                        ..Solution::default()
+                        z_bary,
+                        velocity_bary_kms,
+                        barycentric_correction_kms: decision.bary_kms,
                     };
                     match (decision.by_hand, decision.candidate_rank) {
                         (false, Some(rank)) => Record::accept(
@@ -138,6 +144,7 @@ pub fn state_of(
                 d.subclass = sol.subclass.as_deref().map(crate::text::clean);
                 d.grade = sol.grade;
                 d.lines = sol.lines.clone();
+                d.bary_kms = sol.barycentric_correction_kms;
             }
             let standing = s.verdicts.last();
             d.candidate_rank = standing.and_then(|v| match v.source {

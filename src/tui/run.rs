@@ -11,6 +11,7 @@
 
 use super::app::{App, Effect, Msg};
 use super::journal::Journal;
+use super::lean::LeanBackend;
 use super::widgets;
 use super::worker::{Analyser, THREAD_NAME, Worker};
 use crossterm::event::{self, Event};
@@ -19,7 +20,7 @@ use crossterm::terminal::{
     EnterAlternateScreen, LeaveAlternateScreen, disable_raw_mode, enable_raw_mode,
 };
 use ratatui::Terminal;
-use ratatui::backend::{Backend, CrosstermBackend};
+use ratatui::backend::Backend;
 use std::io::Write;
 use std::sync::Arc;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -226,7 +227,7 @@ pub fn run(
         EnterAlternateScreen,
         crossterm::terminal::Clear(crossterm::terminal::ClearType::All)
     )?;
-    let mut terminal = Terminal::new(CrosstermBackend::new(std::io::stdout()))?;
+    let mut terminal = Terminal::new(LeanBackend::new(std::io::stdout()))?;
     terminal.hide_cursor()?;
     spawn_input(tx);
     let summary = event_loop(

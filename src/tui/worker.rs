@@ -11,6 +11,7 @@
 
 use super::app::{Loaded, Msg, Target};
 use crate::identify::{Candidate, Identifier};
+use crate::physics::bary::BaryOverrides;
 use crate::spectrum::ReadOptions;
 use std::collections::VecDeque;
 use std::panic::AssertUnwindSafe;
@@ -34,13 +35,18 @@ pub trait Analyser: Send + Sync {
     fn remeasure(&self, loaded: &Loaded, z: f64) -> Result<Candidate, String>;
 }
 
-/// The production analyser: `spectrum::read` then `Identifier::analyse`.
+/// The production analyser: `spectrum::read`, `Identifier::analyse` and the
+/// barycentric correction.
 #[derive(Debug)]
 pub struct Core {
     /// The identifier (built once).
     pub identifier: Identifier,
     /// Reader options.
     pub read: ReadOptions,
+    /// What the user supplied for the barycentric correction (command-line
+    /// options and the configured named sites); a queue row's own values
+    /// ([`Target::bary`]) come first.
+    pub bary: BaryOverrides,
 }
 
 fn panic_text(p: Box<dyn std::any::Any + Send>) -> String {
@@ -62,7 +68,13 @@ impl Analyser for Core {
                 .map_err(|p| {
                     format!("the identifier failed on this spectrum: {}", panic_text(p))
                 })?;
-        Ok(Loaded { spectrum, analysis })
+        let row = target.bary.clone().unwrap_or_default();
+        let bary = crate::physics::bary::compute_layered(&spectrum.meta, &[&row, &self.bary]);
+        Ok(Loaded {
+            spectrum,
+            analysis,
+            bary,
+        })
     }
 
     fn remeasure(&self, loaded: &Loaded, z: f64) -> Result<Candidate, String> {

@@ -12,7 +12,8 @@ use zsift::identify::{
     Analysis, Candidate, Feature, FeatureFlag, FeatureKind, Grade, Match, Noise,
 };
 use zsift::lines::{Catalogue, Foreground, ForegroundKind, Line, LineKind, ObjectClass, Width};
-use zsift::spectrum::{Metadata, Spectrum};
+use zsift::physics::bary::{self, BaryOverrides};
+use zsift::spectrum::{Metadata, Site, Spectrum};
 use zsift::tui::app::{App, Loaded, Msg, Slot, Target};
 
 /// Rest vacuum wavelengths (from memory; display only).
@@ -139,6 +140,7 @@ pub fn spectrum(name: &str, z: f64, seed: u64) -> Spectrum {
         source_path: PathBuf::from(format!("night1/{name}.fits")),
         ..Metadata::default()
     };
+    let meta = bary_meta(meta, seed);
     let mut s = Spectrum::new(wave.clone(), flux, Some(sigma), meta).expect("valid spectrum");
     s.sky = Some(
         wave.iter()
@@ -146,6 +148,31 @@ pub fn spectrum(name: &str, z: f64, seed: u64) -> Spectrum {
             .collect(),
     );
     s
+}
+
+/// Invented observation metadata by fixture index: 0 says everything the
+/// barycentric correction needs (the demo's invented site), 1 lacks the site,
+/// 2 names a site no config lists, the rest say nothing.
+fn bary_meta(mut meta: Metadata, seed: u64) -> Metadata {
+    if seed <= 2 {
+        meta.ra_deg = Some(150.25);
+        meta.dec_deg = Some(12.5);
+        meta.date_obs = Some("2026-03-14T04:30:00".into());
+        meta.exposure_s = Some(900.0);
+    }
+    match seed {
+        0 => {
+            meta.site = Site {
+                longitude_deg: Some(zsift::synth::demo::LONGITUDE_DEG),
+                latitude_deg: Some(zsift::synth::demo::LATITUDE_DEG),
+                height_m: Some(zsift::synth::demo::HEIGHT_M),
+                ..Site::default()
+            }
+        }
+        2 => meta.site.name = Some("Kestrel Ridge".into()),
+        _ => {}
+    }
+    meta
 }
 
 fn feature(w: f64, kind: FeatureKind, snr: f64, flag: Option<FeatureFlag>) -> Feature {
@@ -292,9 +319,11 @@ pub const ZS: [f64; 6] = [0.1, 0.02, 0.25, 0.05, 0.3, 0.15];
 pub fn targets() -> Vec<Target> {
     ZS.iter()
         .enumerate()
-        .map(|(i, _)| Target {
-            name: format!("Kestrel-{:02}", i + 1),
-            path: PathBuf::from(format!("night1/kestrel-{:02}.fits", i + 1)),
+        .map(|(i, _)| {
+            Target::new(
+                format!("Kestrel-{:02}", i + 1),
+                format!("night1/kestrel-{:02}.fits", i + 1),
+            )
         })
         .collect()
 }
@@ -304,9 +333,12 @@ pub fn loaded(i: usize) -> Arc<Loaded> {
     let name = format!("Kestrel-{:02}", i + 1);
     let s = spectrum(&name, ZS[i], i as u64);
     let a = analysis(&s, ZS[i]);
+    // What the production worker does with the file's metadata.
+    let bary = bary::compute(&s.meta, &BaryOverrides::default());
     Arc::new(Loaded {
         spectrum: s,
         analysis: a,
+        bary,
     })
 }
 

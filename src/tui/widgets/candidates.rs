@@ -1,8 +1,12 @@
 //! The candidate list: rank, redshift, velocity, class, score, grade and
-//! the core's reason, with the cursor on the candidate the plot shows.
+//! the core's reason, with the cursor on the candidate the plot shows. The
+//! title row also gives the barycentric correction and the barycentric z and
+//! velocity of the shown candidate (the list itself is observed values), or
+//! which input the correction lacks.
 
 use super::{fit, put};
-use crate::tui::app::{App, Slot, Verdict};
+use crate::physics::bary::{BaryError, Missing};
+use crate::tui::app::{App, BaryShown, Slot, Verdict};
 use crate::tui::theme::Role;
 use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
@@ -28,14 +32,36 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         ),
         None => "Candidates".to_string(),
     };
-    put(
+    let used = put(
         buf,
         area.x,
         area.y,
-        &fit(&title, w as usize, app.ascii),
+        fit(&title, w as usize, app.ascii).trim_end(),
         w,
         t.style(Role::Title),
     );
+    // The barycentric values of the shown candidate, in the longest form
+    // that fits beside the title.
+    if let Some(bary) = app.shown_bary() {
+        let room = w.saturating_sub(used + 2) as usize;
+        let (role, forms) = match bary {
+            Ok(b) => (Role::Base, known_forms(&b)),
+            Err(e) => (Role::Dim, unknown_forms(e)),
+        };
+        let text = forms
+            .iter()
+            .find(|f| f.chars().count() <= room)
+            .cloned()
+            .unwrap_or_else(|| fit(forms.last().map_or("", |f| f.as_str()), room, app.ascii));
+        put(
+            buf,
+            area.x + used + 2,
+            area.y,
+            &text,
+            room as u16,
+            t.style(role),
+        );
+    }
     let body = Rect {
         y: area.y + 1,
         height: area.height - 1,
@@ -108,4 +134,51 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         };
         put(buf, body.x, y, &fit(&line, w as usize, app.ascii), w, style);
     }
+}
+
+/// The barycentric values, longest form first.
+fn known_forms(b: &BaryShown) -> Vec<String> {
+    let c = b.correction_kms;
+    match (b.z_bary, b.velocity_bary_kms) {
+        (Some(zb), Some(vb)) => vec![
+            format!("bary corr {c:+.3} km/s: z_bary {zb:.6} v_bary {vb:.1} km/s"),
+            format!("bary {c:+.2} km/s z_bary {zb:.6} v_bary {vb:.0}"),
+            format!("bary {c:+.2} km/s z_bary {zb:.6}"),
+            format!("z_bary {zb:.6}"),
+        ],
+        _ => vec![format!("bary corr {c:+.3} km/s"), format!("bary {c:+.2}")],
+    }
+}
+
+/// Why there is no barycentric correction, longest form first: which input
+/// is missing (or which value is unusable).
+fn unknown_forms(e: &BaryError) -> Vec<String> {
+    let what = match e {
+        BaryError::Missing(m) => {
+            let mut needs = Vec::new();
+            let mut unknown = Vec::new();
+            for m in m {
+                match m {
+                    Missing::Time => needs.push("obs time".to_string()),
+                    Missing::TimeOfDay => needs.push("time of day".to_string()),
+                    Missing::Coordinates => needs.push("RA/Dec".to_string()),
+                    Missing::Site => needs.push("site".to_string()),
+                    Missing::UnconfiguredSite(n) => {
+                        unknown.push(format!("site '{}' not configured", crate::text::clean(n)))
+                    }
+                }
+            }
+            let mut parts = Vec::new();
+            if !needs.is_empty() {
+                parts.push(format!("needs {}", needs.join(", ")));
+            }
+            parts.extend(unknown);
+            parts.join("; ")
+        }
+        BaryError::Invalid { keyword, .. } => format!("bad {}", crate::text::clean(keyword)),
+    };
+    vec![
+        format!("no bary correction: {what}"),
+        format!("no bary: {}", what.trim_start_matches("needs ")),
+    ]
 }
