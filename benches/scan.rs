@@ -7,8 +7,7 @@
 //! each (invented data: a sloped continuum with two emission lines and
 //! deterministic pseudo-noise). Prints spectra per second for the reading
 //! stage alone (readers + records, a trivial analyser) and for the whole scan
-//! with the real identifier (skipped, with a note, while the identifier is
-//! not built yet).
+//! with the real identifier.
 
 use std::io::Write;
 use std::path::{Path, PathBuf};
