@@ -3,23 +3,8 @@
 
 use zsift::physics::airvac::{AIR_LIMIT_ANGSTROM, air_to_vacuum, refractive_index, vacuum_to_air};
 
-/// Rows of a fixture CSV (comment lines start with `#`, one header row).
-fn fixture(name: &str) -> Vec<Vec<f64>> {
-    let path = format!(
-        "{}/tests/fixtures/physics/{name}",
-        env!("CARGO_MANIFEST_DIR")
-    );
-    let text = std::fs::read_to_string(&path).expect("fixture present");
-    text.lines()
-        .filter(|l| !l.starts_with('#'))
-        .skip(1)
-        .map(|l| {
-            l.split(',')
-                .map(|c| c.trim().parse().expect("number"))
-                .collect()
-        })
-        .collect()
-}
+mod physics_common;
+use physics_common::fixture;
 
 #[test]
 fn vacuum_to_air_matches_specutils_morton_2000_to_a_micro_angstrom() {

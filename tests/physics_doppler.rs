@@ -6,22 +6,8 @@ use zsift::physics::doppler::{
     velocity_offset, z_from_optical_velocity, z_from_velocity, z_from_wavelengths,
 };
 
-fn fixture(name: &str) -> Vec<Vec<f64>> {
-    let path = format!(
-        "{}/tests/fixtures/physics/{name}",
-        env!("CARGO_MANIFEST_DIR")
-    );
-    let text = std::fs::read_to_string(&path).expect("fixture present");
-    text.lines()
-        .filter(|l| !l.starts_with('#'))
-        .skip(1)
-        .map(|l| {
-            l.split(',')
-                .map(|c| c.trim().parse().expect("number"))
-                .collect()
-        })
-        .collect()
-}
+mod physics_common;
+use physics_common::fixture;
 
 #[test]
 fn velocity_from_z_matches_astropy_doppler_redshift() {
