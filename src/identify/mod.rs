@@ -327,6 +327,13 @@ impl Identifier {
         })
     }
 
+    /// The gain of a seed's lines at the seed itself with the starting
+    /// widths: a cheap first look, used to choose which seeds to refine.
+    fn first_look(&self, prep: &Prepared, h: Hypothesis, s0: f64) -> f64 {
+        let (lines, sigma) = self.setup(prep, h, s0);
+        redshift::gain_at(&prep.native, &lines, s0, sigma)
+    }
+
     /// Refine a seed: choose the hypothesis's lines, fit them jointly, score.
     fn refine(
         &self,
@@ -336,6 +343,24 @@ impl Identifier {
         reach: f64,
         forest_edge: Option<f64>,
     ) -> Option<Scored> {
+        let (lines, sigma) = self.setup(prep, h, s0);
+        let fit = redshift::joint_fit(&prep.native, lines, s0, reach, sigma)?;
+        Some(score::score(
+            &self.catalogue,
+            h,
+            &prep.native,
+            &fit,
+            forest_edge,
+        ))
+    }
+
+    /// The lines of hypothesis `h` at ln(1+z) = `s0` and the starting widths.
+    fn setup(
+        &self,
+        prep: &Prepared,
+        h: Hypothesis,
+        s0: f64,
+    ) -> (Vec<redshift::FitLine>, [f64; redshift::GROUPS]) {
         let g = &prep.grid;
         let maps = &g.maps;
         let em_bias = |x: f64| {
@@ -366,20 +391,7 @@ impl Identifier {
             }
         }
         let fwhm = best.map(|(_, w)| grid::NARROW_FWHM_KMS[w as usize]);
-        let fit = redshift::joint_fit(
-            &prep.native,
-            lines,
-            s0,
-            reach,
-            redshift::initial_sigma(fwhm),
-        )?;
-        Some(score::score(
-            &self.catalogue,
-            h,
-            &prep.native,
-            &fit,
-            forest_edge,
-        ))
+        (lines, redshift::initial_sigma(fwhm))
     }
 
     /// Analyse one spectrum: noise, continuum, features, ranked candidates.
@@ -479,6 +491,32 @@ impl Identifier {
         // Seeds found by more than one route (comb, cross-correlation,
         // votes) at the same place would refine to the same fit.
         let seeds = merge_seeds(seeds);
+        // Refine only the most promising seeds of each hypothesis, by a
+        // first look at their gain (the joint fits are most of the cost).
+        let seeds = {
+            let mut looked: Vec<(usize, f64)> = seeds
+                .iter()
+                .enumerate()
+                .map(|(i, &(h, s, _))| (i, self.first_look(prep, h, s)))
+                .collect();
+            looked.sort_by(|a, b| b.1.total_cmp(&a.1));
+            let mut kept = vec![false; seeds.len()];
+            for (h, k) in [
+                (Hypothesis::Galaxy, SEEDS_KEPT.0),
+                (Hypothesis::Qso, SEEDS_KEPT.1),
+                (Hypothesis::Star, SEEDS_KEPT.2),
+            ] {
+                for &(i, _) in looked.iter().filter(|(i, _)| seeds[*i].0 == h).take(k) {
+                    kept[i] = true;
+                }
+            }
+            seeds
+                .into_iter()
+                .zip(kept)
+                .filter(|(_, k)| *k)
+                .map(|(s, _)| s)
+                .collect::<Vec<_>>()
+        };
         let mut scored: Vec<Scored> = seeds
             .iter()
             .filter_map(|&(h, s, reach)| self.refine(prep, h, s, reach, None))
@@ -707,6 +745,9 @@ fn nothing_found() -> Candidate {
         derived: Vec::new(),
     }
 }
+
+/// How many seeds of each hypothesis (galaxy, quasar, star) are refined.
+const SEEDS_KEPT: (usize, usize, usize) = (6, 4, 2);
 
 /// Evidence needed before a class is claimed.
 const MIN_SCORE: f64 = 30.0;

@@ -514,6 +514,22 @@ fn vertex(y0: f64, y1: f64, y2: f64) -> f64 {
     }
 }
 
+/// The chi-square gain of `lines` at ln(1+z) = `s` with the given starting
+/// widths (km/s, clamped to the group limits), less 2 per free amplitude.
+pub(crate) fn gain_at(native: &Native, lines: &[FitLine], s: f64, sigma_kms: [f64; GROUPS]) -> f64 {
+    if lines.is_empty() {
+        return f64::NEG_INFINITY;
+    }
+    let broad = lines.iter().any(|l| l.group == Group::EmBroad);
+    let mut widths = [0.0; GROUPS];
+    for g in 0..GROUPS {
+        let (lo, hi) = SIGMA_LIMITS_KMS[g];
+        widths[g] = sigma_kms[g].clamp(lo, hi) / C_KM_S;
+    }
+    let ev = evaluate(native, lines, s, &widths, broad, false);
+    ev.gain - 2.0 * ev.amp.iter().filter(|a| **a != 0.0).count() as f64
+}
+
 /// Joint fit of `lines` near ln(1+z) = `s0`, searching +- `reach` in s.
 pub(crate) fn joint_fit(
     native: &Native,
