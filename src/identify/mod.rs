@@ -747,7 +747,7 @@ fn nothing_found() -> Candidate {
 }
 
 /// How many seeds of each hypothesis (galaxy, quasar, star) are refined.
-const SEEDS_KEPT: (usize, usize, usize) = (6, 4, 2);
+const SEEDS_KEPT: (usize, usize, usize) = (4, 3, 1);
 
 /// Evidence needed before a class is claimed.
 const MIN_SCORE: f64 = 30.0;
