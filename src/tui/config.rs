@@ -36,10 +36,11 @@ advance = true
 
 # Up/Down move only a highlight in the candidate list; the show key (Enter)
 # makes the plot markers, the matched lines and the barycentric values follow
-# it, and accept (a) takes the shown candidate. A highlight move sends about
-# 200 bytes to the terminal, a redraw of the plot and lists three times that
-# or more, which is felt over a slow link (SSH from a telescope). On a fast
-# link, true shows each candidate as the cursor reaches it.
+# it, and accept (a) takes the shown candidate (marked > in the list). At
+# 100x30 a highlight move sends at most about 210 bytes to the terminal,
+# showing a candidate 500-650 (plot markers and both lists), which is felt
+# over a slow link (SSH from a telescope). On a fast link, true shows each
+# candidate as the cursor reaches it.
 follow_cursor = false
 
 # Key bindings: action = [keys]. Keys: a letter or symbol (case matters),
@@ -47,7 +48,8 @@ follow_cursor = false
 # End, PageUp, PageDown, F1..F12, and C-x for Ctrl-x. A key given here is
 # taken away from any other action. The help overlay (?) shows the result.
 [keys]
-# accept = ["a", "Enter"]
+# accept = ["a"]
+# show_candidate = ["Enter"]
 # reject = ["r"]
 # reobserve = ["f"]
 # next_target = ["n", "PageDown"]
