@@ -256,6 +256,8 @@ fn keys(n: usize, seed: u64) -> Vec<KeyCode> {
         KeyCode::Char('p'),
         KeyCode::Down,
         KeyCode::Up,
+        KeyCode::Enter,
+        KeyCode::Down,
         KeyCode::Tab,
         KeyCode::BackTab,
         KeyCode::Char('+'),

@@ -302,3 +302,101 @@ fn accepting_one_demo_target_and_flagging_another_logs_target_action_and_z() {
         "the third is untouched"
     );
 }
+
+/// What a terminal sends for the first key the help overlay lists for
+/// `action` (letters as themselves; Enter and the arrows as a terminal in
+/// normal cursor-key mode sends them).
+fn help_key_bytes(action: Action) -> String {
+    let rows = KeyMap::default().help_rows(true);
+    let (keys, _) = rows
+        .iter()
+        .find(|(_, d)| *d == action.description())
+        .expect("the action is in the help overlay");
+    let first = keys.split(' ').next().expect("a key");
+    match first {
+        "Enter" => "\r".to_string(),
+        "Up" => "\x1b[A".to_string(),
+        "Down" => "\x1b[B".to_string(),
+        k if k.chars().count() == 1 => k.to_string(),
+        other => panic!("no byte sequence for {other}"),
+    }
+}
+
+/// `zsift scan FILE` as JSON.
+fn scan(file: &Path, dir: &Path) -> serde_json::Value {
+    let out = Command::new(env!("CARGO_BIN_EXE_zsift"))
+        .arg("scan")
+        .arg(file)
+        .env("ZSIFT_CONFIG", dir.join("no-config.toml"))
+        .output()
+        .expect("scan runs");
+    serde_json::from_slice(&out.stdout).expect("one JSON record")
+}
+
+#[test]
+fn accept_takes_the_shown_candidate_and_the_show_key_makes_the_cursors_one_shown() {
+    let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo");
+    let files = [
+        ("CVO 2150+3425", "07_CVO2150+3425_table.fits"),
+        ("CVO 2359+2646", "27_CVO2359+2646_table.fits"),
+    ];
+    let tmp = tempfile::tempdir().expect("temp dir");
+    let mut queue = String::from("path,target\n");
+    for (name, file) in files {
+        queue.push_str(&format!("{},{name}\n", demo.join(file).display()));
+    }
+    let qfile = tmp.path().join("queue.csv");
+    std::fs::write(&qfile, queue).expect("queue");
+    let log = tmp.path().join("log");
+    let (down, show, accept, quit) = (
+        help_key_bytes(Action::CandidateDown),
+        help_key_bytes(Action::ShowCandidate),
+        help_key_bytes(Action::Accept),
+        help_key_bytes(Action::Quit),
+    );
+    assert_eq!((down.as_str(), show.as_str()), ("\x1b[B", "\r"));
+
+    // First session: the cursor goes to candidate 2, nothing is shown, accept
+    // takes the shown candidate 1.
+    let mut p = spawn_on(&qfile, tmp.path(), &log);
+    p.expect("1/2").expect("first target shown");
+    p.expect("z_bary").expect("first target analysed");
+    p.send(&down).expect("send");
+    p.send(&accept).expect("send");
+    wait_for(&log, "accept", |r| r.status(files[0].0) == Status::Accepted);
+    p.send(&quit).expect("send");
+    p.expect(Eof).expect("exits");
+    let first = scan(&demo.join(files[0].1), tmp.path());
+    let r = records_of(&log, files[0].0);
+    assert_eq!(r.len(), 1, "{r:?}");
+    assert_eq!(r[0]["source"]["rank"], 1);
+    assert_eq!(r[0]["solution"]["z"], first["candidates"][0]["z"]);
+
+    // Second session (starts at the undecided second target): cursor to
+    // candidate 2, show it, accept: candidate 2 is logged.
+    let mut p = spawn_on(&qfile, tmp.path(), &log);
+    p.expect("2/2").expect("resumes at the undecided target");
+    p.expect("z_bary").expect("second target analysed");
+    p.send(&down).expect("send");
+    p.send(&show).expect("send");
+    p.send(&accept).expect("send");
+    wait_for(&log, "accept", |r| r.status(files[1].0) == Status::Accepted);
+    p.send(&quit).expect("send");
+    p.expect(Eof).expect("exits");
+    let second = scan(&demo.join(files[1].1), tmp.path());
+    assert!(
+        second["candidates"]
+            .as_array()
+            .is_some_and(|c| c.len() >= 2),
+        "the second file needs two candidates for this test: {second}"
+    );
+    let r = records_of(&log, files[1].0);
+    assert_eq!(r.len(), 1, "{r:?}");
+    assert_eq!(r[0]["source"]["kind"], "candidate");
+    assert_eq!(r[0]["source"]["rank"], 2);
+    assert_eq!(r[0]["solution"]["z"], second["candidates"][1]["z"]);
+    assert_eq!(
+        r[0]["solution"]["z_bary"],
+        second["candidates"][1]["z_bary"]
+    );
+}

@@ -307,8 +307,11 @@ fn previous_and_next_stop_at_the_ends() {
 }
 
 #[test]
-fn candidate_cursor_moves_within_the_list_and_accept_takes_that_one() {
+fn candidate_cursor_moves_within_the_list_and_changes_nothing_it_shows() {
     let mut app = fx::app();
+    let _ = press(&mut app, [code(KeyCode::Tab), key('>')]);
+    let nudge = app.nudge.clone();
+    assert!(nudge.is_some() && app.line_cursor.is_some());
     let _ = press(
         &mut app,
         [
@@ -317,13 +320,108 @@ fn candidate_cursor_moves_within_the_list_and_accept_takes_that_one() {
             code(KeyCode::Down),
         ],
     );
-    assert_eq!(app.cand_cursor, 2);
-    let _ = press(&mut app, [code(KeyCode::Up)]);
+    assert_eq!(app.cand_cursor, 2, "stops at the last candidate");
+    // The shown candidate, its nudge and the line cursor stay.
+    assert_eq!(app.cand_shown, 0);
+    assert_eq!(app.nudge, nudge);
+    assert_eq!(app.line_cursor, Some(0));
+    assert!(app.cursor_off_shown());
+    let _ = press(&mut app, (0..5).map(|_| code(KeyCode::Up)));
+    assert_eq!(app.cand_cursor, 0, "stops at the first");
+    assert!(!app.cursor_off_shown());
+}
+
+#[test]
+fn accept_after_a_cursor_move_without_show_takes_the_shown_candidate() {
+    // Chosen behaviour: accept is about what the plot and the line list show
+    // (the evidence looked at), never about a row merely highlighted.
+    let mut app = fx::app();
+    let _ = press(&mut app, [code(KeyCode::Down)]);
+    assert_eq!((app.cand_cursor, app.cand_shown), (1, 0));
+    let Entry::Decide { decision, .. } = recorded(&app.update(key('a'))).remove(0) else {
+        panic!()
+    };
+    assert_eq!(decision.candidate_rank, Some(1));
+    assert_eq!(decision.z, Some(0.1));
+}
+
+#[test]
+fn show_makes_the_cursor_candidate_the_shown_one_and_accept_takes_it() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('>'), code(KeyCode::Tab)]);
+    let _ = press(&mut app, [code(KeyCode::Down), code(KeyCode::Enter)]);
+    assert_eq!((app.cand_cursor, app.cand_shown), (1, 1));
+    // The nudge and the line cursor belonged to the candidate shown before.
+    assert_eq!(app.nudge, None);
+    assert_eq!(app.line_cursor, None);
+    let shown = app.shown_candidate().expect("shown");
+    assert_eq!((shown.rank, shown.z), (2, 0.3421));
     let Entry::Decide { decision, .. } = recorded(&app.update(key('a'))).remove(0) else {
         panic!()
     };
     assert_eq!(decision.candidate_rank, Some(2));
     assert_eq!(decision.z, Some(0.3421));
+    assert_eq!(decision.lines, vec!["H-alpha".to_string()]);
+}
+
+#[test]
+fn show_on_the_shown_candidate_keeps_the_nudge_and_says_which_key_accepts() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [key('>')]);
+    let nudge = app.nudge.clone();
+    let e = press(&mut app, [code(KeyCode::Enter)]);
+    assert!(recorded(&e).is_empty(), "show never decides");
+    assert_eq!(app.nudge, nudge);
+    assert!(
+        matches!(&app.status, Some((StatusKind::Info, s)) if s == "candidate 1 is shown; a accepts it"),
+        "{:?}",
+        app.status
+    );
+}
+
+#[test]
+fn a_new_target_puts_cursor_and_shown_candidate_on_the_first() {
+    let mut app = fx::app();
+    let _ = press(
+        &mut app,
+        [
+            code(KeyCode::Down),
+            code(KeyCode::Enter),
+            code(KeyCode::Down),
+        ],
+    );
+    assert_eq!((app.cand_cursor, app.cand_shown), (2, 1));
+    let _ = press(&mut app, [key('n')]);
+    assert_eq!((app.cand_cursor, app.cand_shown), (0, 0));
+}
+
+#[test]
+fn follow_cursor_shows_each_candidate_the_cursor_reaches() {
+    let mut app = fx::app();
+    app.follow_cursor = true;
+    let _ = press(&mut app, [key('>'), code(KeyCode::Down)]);
+    assert_eq!((app.cand_cursor, app.cand_shown), (1, 1));
+    assert_eq!(app.nudge, None);
+    assert!(!app.cursor_off_shown());
+    let Entry::Decide { decision, .. } = recorded(&app.update(key('a'))).remove(0) else {
+        panic!()
+    };
+    assert_eq!(decision.candidate_rank, Some(2));
+}
+
+#[test]
+fn enter_no_longer_accepts() {
+    let mut app = fx::app();
+    let e = press(
+        &mut app,
+        [
+            code(KeyCode::Enter),
+            code(KeyCode::Down),
+            code(KeyCode::Enter),
+        ],
+    );
+    assert!(recorded(&e).is_empty());
+    assert_eq!(app.decisions[0], None);
 }
 
 #[test]
@@ -429,13 +527,22 @@ fn the_candidate_title_gives_the_correction_and_the_shown_candidates_barycentric
     let wide = text(&screen(&app, 100, 30));
     let want = format!("bary {corr:+.2} km/s z_bary {zb:.6}");
     assert!(wide.contains(&want), "{wide}\nwants {want}");
-    // Another candidate under the cursor: its own barycentric z.
+    // Another candidate under the cursor: still the shown one's values.
     let _ = press(&mut app, [code(KeyCode::Down)]);
-    let z2 = app.shown_candidate().expect("candidate").z;
+    let z2 = fx::loaded(0).analysis.candidates[1].z;
     let (_, zb2, _) = bary_of(0, z2);
+    let shown = text(&screen(&app, 80, 24));
+    assert!(shown.contains(&format!("z_bary {zb:.6}")), "{shown}");
+    assert!(!shown.contains(&format!("z_bary {zb2:.6}")), "{shown}");
+    // Shown: its own barycentric z.
+    let _ = press(&mut app, [code(KeyCode::Enter)]);
+    assert_eq!(app.shown_candidate().expect("candidate").z, z2);
     assert!(text(&screen(&app, 80, 24)).contains(&format!("z_bary {zb2:.6}")));
     // A nudged redshift: the barycentric z of the nudged value.
-    let _ = press(&mut app, [code(KeyCode::Up), key('>')]);
+    let _ = press(
+        &mut app,
+        [code(KeyCode::Up), code(KeyCode::Enter), key('>')],
+    );
     let zn = app.nudge.as_ref().expect("nudged").z;
     let (_, zbn, _) = bary_of(0, zn);
     let shown = text(&screen(&app, 80, 24));
@@ -485,6 +592,155 @@ fn an_accepted_decision_carries_the_correction_and_its_barycentric_values() {
     assert_eq!(decision.bary(), (None, None));
 }
 
+// ---- what a cursor move redraws ---------------------------------------------
+
+/// The row of the candidate list showing rank `rank` at redshift `z` (the
+/// list starts at the screen's left edge in both layouts: two mark columns,
+/// then the rank and z).
+fn candidate_row(buf: &Buffer, rank: usize, z: f64) -> u16 {
+    let want = format!("{rank} {z:>7.5}");
+    (0..buf.area.height)
+        .find(|y| {
+            let row: String = (2..2 + want.len() as u16)
+                .map(|x| buf[(x, *y)].symbol().to_string())
+                .collect();
+            row == want
+        })
+        .unwrap_or_else(|| panic!("no row for candidate {rank}\n{}", text(buf)))
+}
+
+/// Cells whose symbol or style differ between two screens.
+fn changed(a: &Buffer, b: &Buffer) -> Vec<(u16, u16)> {
+    let mut v = Vec::new();
+    for y in 0..a.area.height {
+        for x in 0..a.area.width {
+            if a[(x, y)] != b[(x, y)] {
+                v.push((x, y));
+            }
+        }
+    }
+    v
+}
+
+/// Columns of the footer entry of the show key (its key and its label).
+fn show_hint_columns(buf: &Buffer) -> std::ops::Range<u16> {
+    let y = buf.area.height - 1;
+    let row: String = (0..buf.area.width)
+        .map(|x| buf[(x, y)].symbol().to_string())
+        .collect();
+    let at = row
+        .find("Enter show")
+        .or_else(|| row.find("Enter SHOW"))
+        .unwrap_or_else(|| panic!("no show key in the footer: {row}"));
+    // Cells, not bytes (arrow key labels are not ASCII).
+    let at = row[..at].chars().count() as u16;
+    at..at + "Enter show".len() as u16
+}
+
+#[test]
+fn a_cursor_move_changes_only_the_two_candidate_rows_and_the_footers_show_hint() {
+    for (w, h, ascii) in [
+        (80, 24, true),
+        (100, 30, true),
+        (100, 30, false),
+        (64, 18, true),
+    ] {
+        // The candidate list spans the screen below 100 columns and leaves
+        // 54 columns and a gap to the line list from there (widgets::render).
+        let list_w = if w >= widgets::WIDE { w - 55 } else { w };
+        let mut app = fx::app();
+        app.ascii = ascii;
+        for target in 0..app.targets.len() {
+            let cands = fx::loaded(target).analysis.candidates.clone();
+            for k in [
+                KeyCode::Up,
+                KeyCode::Down,
+                KeyCode::Down,
+                KeyCode::Down,
+                KeyCode::Up,
+                KeyCode::Up,
+            ] {
+                let before = screen(&app, w, h);
+                let (c0, off0) = (app.cand_cursor, app.cursor_off_shown());
+                let _ = press(&mut app, [code(k)]);
+                let after = screen(&app, w, h);
+                let (c1, off1) = (app.cand_cursor, app.cursor_off_shown());
+                let diff = changed(&before, &after);
+                if c0 == c1 {
+                    assert!(
+                        diff.is_empty(),
+                        "{w}x{h}: a move at the end changed {diff:?}"
+                    );
+                    continue;
+                }
+                let rows = [
+                    candidate_row(&after, cands[c0].rank, cands[c0].z),
+                    candidate_row(&after, cands[c1].rank, cands[c1].z),
+                ];
+                let hint = show_hint_columns(&after);
+                for (x, y) in &diff {
+                    let in_rows = rows.contains(y) && *x < list_w;
+                    let in_hint = off0 != off1 && *y == h - 1 && hint.contains(x);
+                    assert!(
+                        in_rows || in_hint,
+                        "{w}x{h} target {target}: cursor {c0} -> {c1} changed ({x}, {y})\n{}",
+                        text(&after)
+                    );
+                }
+                assert!(
+                    diff.iter().any(|(_, y)| *y == rows[1]),
+                    "the new cursor row"
+                );
+                assert_eq!(
+                    diff.iter().any(|(_, y)| *y == h - 1),
+                    off0 != off1,
+                    "the hint changes exactly when the cursor leaves or reaches the shown row"
+                );
+            }
+            let _ = press(&mut app, [key('n')]);
+        }
+    }
+}
+
+#[test]
+fn the_cursor_row_is_highlighted_the_shown_row_marked_and_the_footer_hints_show() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [code(KeyCode::Down)]);
+    let buf = screen(&app, 80, 24);
+    let cands = &fx::loaded(0).analysis.candidates;
+    let shown_y = candidate_row(&buf, 1, cands[0].z);
+    let cursor_y = candidate_row(&buf, 2, cands[1].z);
+    // Standard theme: the cursor is black on cyan across the list's width.
+    for x in 0..80 {
+        assert_eq!(buf[(x, cursor_y)].bg, Color::Cyan, "cursor row at {x}");
+        assert_ne!(buf[(x, shown_y)].bg, Color::Cyan, "shown row at {x}");
+    }
+    assert_eq!(buf[(0, shown_y)].symbol(), ">");
+    assert_eq!(
+        buf[(0, shown_y)].fg,
+        Color::LightCyan,
+        "the mark in the key colour"
+    );
+    assert_eq!(buf[(0, cursor_y)].symbol(), " ");
+    let hint = show_hint_columns(&buf);
+    let footer: String = hint
+        .clone()
+        .map(|x| buf[(x, 23)].symbol().to_string())
+        .collect();
+    assert_eq!(footer, "Enter SHOW");
+    assert!(hint.clone().all(|x| buf[(x, 23)].bg == Color::Cyan));
+    // Shown: one row, marked and highlighted; the hint is back to normal.
+    let _ = press(&mut app, [code(KeyCode::Enter)]);
+    let buf = screen(&app, 80, 24);
+    let y = candidate_row(&buf, 2, cands[1].z);
+    assert_eq!(buf[(0, y)].symbol(), ">");
+    assert_eq!(buf[(0, y)].bg, Color::Cyan);
+    assert_eq!(buf[(0, candidate_row(&buf, 1, cands[0].z))].symbol(), " ");
+    let hint = show_hint_columns(&buf);
+    let footer: String = hint.map(|x| buf[(x, 23)].symbol().to_string()).collect();
+    assert_eq!(footer, "Enter show");
+}
+
 // ---- screens --------------------------------------------------------------
 
 fn snap(name: &str, app: &App, w: u16, h: u16) {
@@ -506,6 +762,14 @@ fn screen_browse_braille_100x30() {
     let mut app = fx::app();
     app.ascii = false;
     snap("browse_braille_100x30", &app, 100, 30);
+}
+
+#[test]
+fn screen_cursor_off_the_shown_candidate() {
+    let mut app = fx::app();
+    let _ = press(&mut app, [code(KeyCode::Down), code(KeyCode::Down)]);
+    snap("cursor_off_shown_80x24", &app, 80, 24);
+    snap("cursor_off_shown_100x30", &app, 100, 30);
 }
 
 #[test]

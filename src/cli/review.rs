@@ -135,6 +135,7 @@ pub fn run_session(session: Session, display: &Display) -> anyhow::Result<u8> {
     app.theme = theme;
     app.ascii = display.ascii || cfg.ascii || !config::locale_is_utf8();
     app.advance = !display.stay && cfg.advance.unwrap_or(true);
+    app.follow_cursor = cfg.follow_cursor.unwrap_or(false);
     app.observer = observer.clone();
 
     let analyser = Arc::new(Core {

@@ -322,8 +322,18 @@ pub struct App {
     pub undo_stack: Vec<(usize, Option<Decision>)>,
     /// A log write in flight (the screen says "saving" until it is back).
     pub pending: Option<Entry>,
-    /// The candidate cursor (index into the shown target's candidates).
+    /// The candidate cursor: a highlight in the candidate list (index into
+    /// the current target's candidates). Moving it changes nothing else on
+    /// screen unless [`App::follow_cursor`] is set.
     pub cand_cursor: usize,
+    /// The shown candidate (index into the current target's candidates): the
+    /// one the plot markers, the matched-line list and the barycentric values
+    /// are for, and the one accept takes. The show key moves it to the cursor.
+    pub cand_shown: usize,
+    /// Show the candidate under the cursor at every cursor move (the old,
+    /// live behaviour; costs a plot and list redraw per move, so off by
+    /// default for slow links).
+    pub follow_cursor: bool,
     /// The line cursor (index into the shown candidate's matched lines).
     pub line_cursor: Option<usize>,
     /// A nudged redshift for the current target.
@@ -376,6 +386,8 @@ impl App {
             undo_stack: Vec::new(),
             pending: None,
             cand_cursor: 0,
+            cand_shown: 0,
+            follow_cursor: false,
             line_cursor: None,
             nudge: None,
             view: View {
@@ -418,11 +430,11 @@ impl App {
         }
     }
 
-    /// The candidate the screen shows: the one under the cursor, or its
+    /// The candidate the screen shows ([`App::cand_shown`]), or its
     /// re-measurement at the nudged redshift.
     pub fn shown_candidate(&self) -> Option<Candidate> {
         let l = self.loaded()?;
-        let base = l.analysis.candidates.get(self.cand_cursor)?;
+        let base = l.analysis.candidates.get(self.cand_shown)?;
         match &self.nudge {
             Some(Nudge {
                 candidate: Some(c), ..
@@ -498,6 +510,7 @@ impl App {
         }
         self.pos = i;
         self.cand_cursor = 0;
+        self.cand_shown = 0;
         self.line_cursor = None;
         self.nudge = None;
         self.view.range = None;
@@ -722,6 +735,24 @@ impl App {
         self.loaded().map_or(0, |l| l.analysis.candidates.len())
     }
 
+    /// True when the cursor is on another candidate than the shown one.
+    pub fn cursor_off_shown(&self) -> bool {
+        self.cand_cursor != self.cand_shown && self.cand_cursor < self.n_candidates()
+    }
+
+    /// Show the candidate under the cursor (dropping a nudge and the line
+    /// cursor, which belonged to the one shown before); false when it was
+    /// already shown.
+    fn show_cursor(&mut self) -> bool {
+        if self.cand_cursor == self.cand_shown {
+            return false;
+        }
+        self.cand_shown = self.cand_cursor;
+        self.nudge = None;
+        self.line_cursor = None;
+        true
+    }
+
     fn act(&mut self, a: Action) -> Vec<Effect> {
         match a {
             Action::Quit => {
@@ -763,11 +794,25 @@ impl App {
                     } else {
                         (self.cand_cursor + 1).min(n - 1)
                     };
-                    if c != self.cand_cursor {
-                        self.cand_cursor = c;
-                        self.nudge = None;
-                        self.line_cursor = None;
+                    self.cand_cursor = c;
+                    if self.follow_cursor {
+                        self.show_cursor();
                     }
+                }
+                Vec::new()
+            }
+            Action::ShowCandidate => {
+                if self.n_candidates() == 0 {
+                    self.say(StatusKind::Info, "no candidate to show");
+                } else if !self.show_cursor() {
+                    let rank = self.shown_candidate().map_or(0, |c| c.rank);
+                    self.say(
+                        StatusKind::Info,
+                        format!(
+                            "candidate {rank} is shown; {} accepts it",
+                            self.keys.first_label(Action::Accept, self.ascii)
+                        ),
+                    );
                 }
                 Vec::new()
             }

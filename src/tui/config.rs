@@ -34,12 +34,22 @@ ascii = false
 # After a decision, go on to the next undecided target.
 advance = true
 
+# Up/Down move only a highlight in the candidate list; the show key (Enter)
+# makes the plot markers, the matched lines and the barycentric values follow
+# it, and accept (a) takes the shown candidate (marked > in the list). At
+# 100x30 a highlight move sends at most about 210 bytes to the terminal,
+# showing a candidate 500-650 (plot markers and both lists), which is felt
+# over a slow link (SSH from a telescope). On a fast link, true shows each
+# candidate as the cursor reaches it.
+follow_cursor = false
+
 # Key bindings: action = [keys]. Keys: a letter or symbol (case matters),
 # Enter, Tab, S-Tab, Esc, Space, Backspace, Left, Right, Up, Down, Home,
 # End, PageUp, PageDown, F1..F12, and C-x for Ctrl-x. A key given here is
 # taken away from any other action. The help overlay (?) shows the result.
 [keys]
-# accept = ["a", "Enter"]
+# accept = ["a"]
+# show_candidate = ["Enter"]
 # reject = ["r"]
 # reobserve = ["f"]
 # next_target = ["n", "PageDown"]
@@ -81,6 +91,9 @@ pub struct Config {
     pub ascii: bool,
     /// Go on to the next undecided target after a decision.
     pub advance: Option<bool>,
+    /// Show each candidate as the cursor reaches it (default false: the show
+    /// key does it, so a cursor move sends only two list rows).
+    pub follow_cursor: Option<bool>,
     /// Key bindings: action name -> keys.
     #[serde(default)]
     pub keys: BTreeMap<String, Vec<String>>,
@@ -292,6 +305,11 @@ mod tests {
         let c = Config::parse(EXAMPLE, Path::new("example.toml")).expect("example parses");
         assert_eq!(c.observer.as_deref(), Some("night assistant"));
         assert_eq!(c.theme.as_deref(), Some("standard"));
+        assert_eq!(
+            c.follow_cursor,
+            Some(false),
+            "the example states the default"
+        );
         let mut map = KeyMap::default();
         for (a, k) in &c.keys {
             map.rebind(a, k).expect("example keys are valid");

@@ -25,11 +25,14 @@ pub enum Action {
     CandidateUp,
     /// Move the candidate cursor down.
     CandidateDown,
+    /// Show the candidate under the cursor: the plot, the matched-line list
+    /// and the barycentric values follow it, and accept takes it.
+    ShowCandidate,
     /// Move the line cursor to the next matched line and centre the plot on it.
     LineNext,
     /// Move the line cursor to the previous matched line.
     LinePrev,
-    /// Accept the chosen candidate (at its nudged redshift, if nudged).
+    /// Accept the shown candidate (at its nudged redshift, if nudged).
     Accept,
     /// Reject the target (no usable redshift).
     Reject,
@@ -71,12 +74,13 @@ pub enum Action {
 
 impl Action {
     /// Every action, in the order the help overlay lists them.
-    pub const ALL: [Action; 28] = [
+    pub const ALL: [Action; 29] = [
         Action::NextTarget,
         Action::PrevTarget,
         Action::NextUndecided,
         Action::CandidateUp,
         Action::CandidateDown,
+        Action::ShowCandidate,
         Action::Accept,
         Action::Reject,
         Action::Reobserve,
@@ -112,6 +116,7 @@ impl Action {
             Action::NextUndecided => "next_undecided",
             Action::CandidateUp => "candidate_up",
             Action::CandidateDown => "candidate_down",
+            Action::ShowCandidate => "show_candidate",
             Action::LineNext => "line_next",
             Action::LinePrev => "line_previous",
             Action::Accept => "accept",
@@ -146,9 +151,10 @@ impl Action {
             Action::NextUndecided => "next undecided target",
             Action::CandidateUp => "candidate cursor up",
             Action::CandidateDown => "candidate cursor down",
+            Action::ShowCandidate => "show cursor candidate",
             Action::LineNext => "next matched line",
             Action::LinePrev => "previous matched line",
-            Action::Accept => "accept cursor candidate",
+            Action::Accept => "accept shown candidate",
             Action::Reject => "reject: no usable redshift",
             Action::Reobserve => "flag for re-observation",
             Action::SetClass => "class/subclass by hand",
@@ -179,6 +185,7 @@ impl Action {
             Action::PrevTarget => "prev",
             Action::NextUndecided => "to do",
             Action::CandidateUp | Action::CandidateDown => "cand",
+            Action::ShowCandidate => "show",
             Action::LineNext | Action::LinePrev => "line",
             Action::Accept => "accept",
             Action::Reject => "reject",
@@ -349,7 +356,8 @@ impl Default for KeyMap {
                 b(Action::NextUndecided, &[Key::ch(' ')]),
                 b(Action::CandidateUp, &[Key::code(K::Up)]),
                 b(Action::CandidateDown, &[Key::code(K::Down)]),
-                b(Action::Accept, &[Key::ch('a'), Key::code(K::Enter)]),
+                b(Action::ShowCandidate, &[Key::code(K::Enter)]),
+                b(Action::Accept, &[Key::ch('a')]),
                 b(Action::Reject, &[Key::ch('r')]),
                 b(Action::Reobserve, &[Key::ch('f')]),
                 b(Action::SetClass, &[Key::ch('c')]),

@@ -1,8 +1,11 @@
 //! The candidate list: rank, redshift, velocity, class, score, grade and
-//! the core's reason, with the cursor on the candidate the plot shows. The
-//! title row also gives the barycentric correction and the barycentric z and
-//! velocity of the shown candidate (the list itself is observed values), or
-//! which input the correction lacks.
+//! the core's reason. The cursor row is highlighted (moving it redraws only
+//! the two rows it leaves and enters); the shown candidate, the one the plot,
+//! the matched-line list and accept are about, is marked `>` in the first
+//! column, an accepted one `*`/`✓` in the second. The title row also gives
+//! the barycentric correction and the barycentric z and velocity of the
+//! shown candidate (the list itself is observed values), or which input the
+//! correction lacks.
 
 use super::{fit, put};
 use crate::physics::bary::{BaryError, Missing};
@@ -10,6 +13,10 @@ use crate::tui::app::{App, BaryShown, Slot, Verdict};
 use crate::tui::theme::Role;
 use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
+
+/// The mark of the shown candidate's row (first column; ASCII in every mode,
+/// so it is one column wide on every terminal).
+pub const SHOWN_MARK: char = '>';
 
 /// Relativistic velocity from redshift, km/s (for a nudged z awaiting the core).
 fn velocity(z: f64) -> f64 {
@@ -107,32 +114,43 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let first = app.cand_cursor.saturating_sub(rows.saturating_sub(1));
     for (row, (i, c)) in cands.iter().enumerate().skip(first).take(rows).enumerate() {
         let y = body.y + row as u16;
-        let here = i == app.cand_cursor;
-        let (z, v) = match (&app.nudge, here) {
+        let shown = i == app.cand_shown;
+        let cursor = i == app.cand_cursor;
+        let (z, v) = match (&app.nudge, shown) {
             (Some(n), true) => (n.z, velocity(n.z)),
             _ => (c.z, c.velocity_kms),
         };
-        let mark = if accepted_rank == Some(c.rank) {
+        let shown_mark = if shown { SHOWN_MARK } else { ' ' };
+        let accepted_mark = if accepted_rank == Some(c.rank) {
             if app.ascii { '*' } else { '✓' }
-        } else if here {
-            '>'
         } else {
             ' '
         };
         let reason = crate::text::clean(&c.reason);
         let line = format!(
-            "{mark}{:>1} {z:>7.5} {v:>6.0} {:<6} {:>5.1} {:<4} {reason}",
+            "{shown_mark}{accepted_mark}{:>1} {z:>7.5} {v:>6.0} {:<6} {:>5.1} {:<4} {reason}",
             c.rank,
             c.class.as_str(),
             c.score,
             c.grade.as_str(),
         );
-        let style = if here {
+        let style = if cursor {
             t.style(Role::Cursor)
         } else {
             t.style(Role::Base)
         };
         put(buf, body.x, y, &fit(&line, w as usize, app.ascii), w, style);
+        // Off the cursor, the shown mark stands out in the key colour.
+        if shown && !cursor {
+            put(
+                buf,
+                body.x,
+                y,
+                &SHOWN_MARK.to_string(),
+                1,
+                t.style(Role::Key),
+            );
+        }
     }
 }
 
