@@ -72,12 +72,12 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
 }
 
 fn too_small(app: &App, area: Rect, buf: &mut Buffer) {
+    // Short lines, so that the message survives a very narrow terminal.
     let lines = [
-        format!(
-            "zsift needs at least {MIN_WIDTH}x{MIN_HEIGHT}; this terminal is {}x{}.",
-            area.width, area.height
-        ),
-        "Make the window larger (decisions so far are saved).".to_string(),
+        format!("zsift needs {MIN_WIDTH}x{MIN_HEIGHT} or more;"),
+        format!("this terminal is {}x{}.", area.width, area.height),
+        "Make the window larger;".to_string(),
+        "decisions so far are saved.".to_string(),
         format!(
             "{} quits.",
             app.keys.first_label(super::keys::Action::Quit, app.ascii)
