@@ -5,6 +5,8 @@
 //! cargo bench --bench accuracy                       # 400 spectra, tables and timing
 //! cargo bench --bench accuracy -- --n 1000 --seed 7  # another set
 //! cargo bench --bench accuracy -- --write DIR        # write the set + manifest.csv only
+//! cargo bench --bench accuracy -- --failures          # each miss with its top three candidates
+//! ZSIFT_DETAIL=19 cargo bench --bench accuracy       # case 19 in full: truth lines and matches
 //! cargo bench --bench accuracy -- --read DIR --out zsift.jsonl
 //!                                                    # analyse files listed in DIR/manifest.csv
 //! ```
@@ -243,6 +245,28 @@ fn main() {
                 k.score,
                 k.matched.iter().filter(|m| m.snr >= 4.0).count()
             );
+        }
+        if std::env::var("ZSIFT_DETAIL")
+            .ok()
+            .and_then(|v| v.parse::<usize>().ok())
+            == Some(c.index)
+        {
+            // One case in full: the truth lines and the rank-1 matches.
+            for l in &syn.truth.lines {
+                println!(
+                    "  truth {} rest {:.2} obs {:.2} fwhm {:.0}",
+                    l.name, l.rest_wavelength, l.observed_wavelength, l.fwhm_kms
+                );
+            }
+            for k in an.candidates.iter().take(2) {
+                println!("  cand {} z {:.5}", k.class.as_str(), k.z);
+                for m in &k.matched {
+                    println!(
+                        "    {} obs {:.2} dv {:.0} snr {:.1} fwhm {:.0}",
+                        m.line, m.observed_wavelength, m.offset_kms, m.snr, m.fwhm_kms
+                    );
+                }
+            }
         }
         if a.failures && !(verdict.z_ok && verdict.class_ok) {
             println!(
