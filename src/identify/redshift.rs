@@ -317,6 +317,39 @@ struct Eval {
     dof: f64,
 }
 
+/// Profile columns of a fit's lines, kept between evaluations: a line's
+/// column is recomputed only when its centre or a width it depends on
+/// changed (the width search varies one group at a time).
+pub(crate) struct Columns {
+    keys: Vec<Option<(f64, f64, f64)>>,
+    cols: Vec<(usize, Vec<f64>)>,
+}
+
+impl Columns {
+    fn new(n: usize) -> Columns {
+        Columns {
+            keys: vec![None; n],
+            cols: vec![(0, Vec::new()); n],
+        }
+    }
+
+    fn update(&mut self, native: &Native, lines: &[FitLine], s: f64, widths: &[f64; GROUPS]) {
+        for (i, l) in lines.iter().enumerate() {
+            let x = l.ln_rest + s;
+            let edge = if l.group == Group::Band {
+                widths[Group::AbNarrow as usize]
+            } else {
+                0.0
+            };
+            let key = (x, widths[l.group as usize], edge);
+            if self.keys[i] != Some(key) {
+                self.cols[i] = column(native, x, l.group, widths);
+                self.keys[i] = Some(key);
+            }
+        }
+    }
+}
+
 fn evaluate(
     native: &Native,
     lines: &[FitLine],
@@ -324,12 +357,12 @@ fn evaluate(
     widths: &[f64; GROUPS],
     broad: bool,
     want_var: bool,
+    cache: &std::cell::RefCell<Columns>,
 ) -> Eval {
     let n = lines.len();
-    let cols: Vec<(usize, Vec<f64>)> = lines
-        .iter()
-        .map(|l| column(native, l.ln_rest + s, l.group, widths))
-        .collect();
+    let mut cache = cache.borrow_mut();
+    cache.update(native, lines, s, widths);
+    let cols = &cache.cols;
     let base = if broad {
         &native.cont_broad
     } else {
@@ -526,7 +559,8 @@ pub(crate) fn gain_at(native: &Native, lines: &[FitLine], s: f64, sigma_kms: [f6
         let (lo, hi) = SIGMA_LIMITS_KMS[g];
         widths[g] = sigma_kms[g].clamp(lo, hi) / C_KM_S;
     }
-    let ev = evaluate(native, lines, s, &widths, broad, false);
+    let cache = std::cell::RefCell::new(Columns::new(lines.len()));
+    let ev = evaluate(native, lines, s, &widths, broad, false, &cache);
     ev.gain - 2.0 * ev.amp.iter().filter(|a| **a != 0.0).count() as f64
 }
 
@@ -547,7 +581,9 @@ pub(crate) fn joint_fit(
         let (lo, hi) = SIGMA_LIMITS_KMS[g];
         widths[g] = init_sigma_kms[g].clamp(lo, hi) / C_KM_S;
     }
-    let g_at = |s: f64, w: &[f64; GROUPS]| evaluate(native, &lines, s, w, broad, false).gain;
+    let cache = std::cell::RefCell::new(Columns::new(lines.len()));
+    let g_at =
+        |s: f64, w: &[f64; GROUPS]| evaluate(native, &lines, s, w, broad, false, &cache).gain;
     // Coarse search in s.
     let mut s;
     let steps = 3;
@@ -605,7 +641,7 @@ pub(crate) fn joint_fit(
             }
         }
     }
-    let ev = evaluate(native, &lines, s, &widths, broad, true);
+    let ev = evaluate(native, &lines, s, &widths, broad, true, &cache);
     // Curvature for the error: chi2(s) = chi2_min + C (s - s*)^2 / 2 with
     // C = -d2 gain / ds2; sigma_s = sqrt(2 / C) (Delta chi2 = 1).
     let sig_min = widths
