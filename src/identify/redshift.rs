@@ -394,7 +394,7 @@ fn evaluate(
         let first = cols[order[start]].0;
         let cluster = &order[start..end];
         gain += solve_cluster(
-            native, lines, &cols, base, &npix, cluster, &mut amp, &mut var, want_var,
+            native, lines, cols, base, &npix, cluster, &mut amp, &mut var, want_var,
         );
         // Chi-square of the cluster's pixels under the fitted model.
         let mut model = vec![0.0; reach - first];
