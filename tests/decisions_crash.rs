@@ -72,22 +72,19 @@ fn every_decision_reported_saved_survives_sigkill_at_random_moments() {
             .stderr(Stdio::null())
             .spawn()
             .expect("spawn zsift");
+        // Kill right after the k-th "saved" line (k random, 1-399), while
+        // the child is still deciding: the moment falls wherever in its
+        // write sequence the child happens to be, on any machine speed.
         let stdout = child.stdout.take().expect("piped stdout");
-        let reader = std::thread::spawn(move || {
-            BufReader::new(stdout)
-                .lines()
-                .map_while(Result::ok)
-                .collect::<Vec<String>>()
-        });
-        let delay = 10 + rng.next() % 250;
-        std::thread::sleep(Duration::from_millis(delay));
-        let finished = child.try_wait().ok().flatten().is_some();
+        let k = 1 + (rng.next() % 399) as usize;
+        let mut lines = BufReader::new(stdout).lines().map_while(Result::ok);
+        let mut out: Vec<String> = lines.by_ref().take(k).collect();
         let _ = child.kill(); // SIGKILL on Unix
-        let _ = child.wait();
-        if !finished {
+        out.extend(lines);
+        let status = child.wait().expect("wait for zsift");
+        if !status.success() {
             killed_mid_run += 1;
         }
-        let out = reader.join().expect("reader thread");
         for (j, line) in out.iter().enumerate() {
             let name = line.strip_prefix("saved ").expect("only saved lines");
             assert_eq!(name, entries[j].0, "saved lines follow the scan order");
