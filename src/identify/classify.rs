@@ -11,7 +11,7 @@
 //!   Balmer lines against Ca II K (hot stars: strong hydrogen, weak Ca II;
 //!   cool stars the reverse; common practice, no source for the threshold).
 
-use super::score::{CASE_B_HALPHA_HBETA, LineMeasure, Scored};
+use super::score::{CASE_B_HALPHA_HBETA, LineMeasure, Scored, snr_power};
 use super::xcorr::Hypothesis;
 use crate::lines::{Catalogue, ObjectClass};
 
@@ -103,22 +103,9 @@ pub(crate) fn classify(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_star: 
     // A "galaxy" within stellar velocities whose evidence is nearly all
     // absorption is a star (a noise bump fitted as weak emission does not
     // make it a galaxy).
-    let power = |emission: bool| -> f64 {
-        sc.lines
-            .iter()
-            .filter(|m| {
-                if emission {
-                    m.snr >= 3.0
-                } else {
-                    m.snr <= -3.0
-                }
-            })
-            .map(|m| m.snr * m.snr)
-            .sum()
-    };
     if sc.hypothesis == Hypothesis::Galaxy
         && velocity_kms.abs() <= v_star
-        && power(true) < 0.15 * power(false)
+        && snr_power(&sc.lines, |m| m.snr >= 3.0) < 0.15 * snr_power(&sc.lines, |m| m.snr <= -3.0)
     {
         class = ObjectClass::Star;
     }

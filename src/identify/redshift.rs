@@ -320,7 +320,7 @@ struct Eval {
 /// Profile columns of a fit's lines, kept between evaluations: a line's
 /// column is recomputed only when its centre or a width it depends on
 /// changed (the width search varies one group at a time).
-pub(crate) struct Columns {
+struct Columns {
     keys: Vec<Option<(f64, f64, f64)>>,
     cols: Vec<(usize, Vec<f64>)>,
 }
@@ -547,20 +547,40 @@ fn vertex(y0: f64, y1: f64, y2: f64) -> f64 {
     }
 }
 
+/// Starting widths in ln(lambda) from sigmas in km/s, clamped to the group
+/// limits.
+fn start_widths(sigma_kms: [f64; GROUPS]) -> [f64; GROUPS] {
+    let mut widths = [0.0; GROUPS];
+    for g in 0..GROUPS {
+        let (lo, hi) = SIGMA_LIMITS_KMS[g];
+        widths[g] = sigma_kms[g].clamp(lo, hi) / C_KM_S;
+    }
+    widths
+}
+
+/// Whether a fit of `lines` is measured against the broad continuum (it
+/// has broad lines, which the narrow continuum would follow).
+fn uses_broad_base(lines: &[FitLine]) -> bool {
+    lines.iter().any(|l| l.group == Group::EmBroad)
+}
+
 /// The chi-square gain of `lines` at ln(1+z) = `s` with the given starting
 /// widths (km/s, clamped to the group limits), less 2 per free amplitude.
 pub(crate) fn gain_at(native: &Native, lines: &[FitLine], s: f64, sigma_kms: [f64; GROUPS]) -> f64 {
     if lines.is_empty() {
         return f64::NEG_INFINITY;
     }
-    let broad = lines.iter().any(|l| l.group == Group::EmBroad);
-    let mut widths = [0.0; GROUPS];
-    for g in 0..GROUPS {
-        let (lo, hi) = SIGMA_LIMITS_KMS[g];
-        widths[g] = sigma_kms[g].clamp(lo, hi) / C_KM_S;
-    }
+    let widths = start_widths(sigma_kms);
     let cache = std::cell::RefCell::new(Columns::new(lines.len()));
-    let ev = evaluate(native, lines, s, &widths, broad, false, &cache);
+    let ev = evaluate(
+        native,
+        lines,
+        s,
+        &widths,
+        uses_broad_base(lines),
+        false,
+        &cache,
+    );
     ev.gain - 2.0 * ev.amp.iter().filter(|a| **a != 0.0).count() as f64
 }
 
@@ -575,12 +595,8 @@ pub(crate) fn joint_fit(
     if lines.is_empty() {
         return None;
     }
-    let broad = lines.iter().any(|l| l.group == Group::EmBroad);
-    let mut widths = [0.0; GROUPS];
-    for g in 0..GROUPS {
-        let (lo, hi) = SIGMA_LIMITS_KMS[g];
-        widths[g] = init_sigma_kms[g].clamp(lo, hi) / C_KM_S;
-    }
+    let broad = uses_broad_base(&lines);
+    let mut widths = start_widths(init_sigma_kms);
     let cache = std::cell::RefCell::new(Columns::new(lines.len()));
     let g_at =
         |s: f64, w: &[f64; GROUPS]| evaluate(native, &lines, s, w, broad, false, &cache).gain;

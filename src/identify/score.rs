@@ -94,6 +94,16 @@ fn interp(native: &Native, a: &[f64], lnx: f64) -> f64 {
     a[i - 1] * (1.0 - f) + a[i] * f
 }
 
+/// The summed S/N^2 of the lines that `keep` accepts: how much of a fit's
+/// evidence a kind of line carries.
+pub(crate) fn snr_power(lines: &[LineMeasure], keep: impl Fn(&LineMeasure) -> bool) -> f64 {
+    lines
+        .iter()
+        .filter(|m| keep(m))
+        .map(|m| m.snr * m.snr)
+        .sum()
+}
+
 /// Measure each fitted line.
 pub(crate) fn measure(native: &Native, fit: &JointFit) -> Vec<LineMeasure> {
     let base = if fit.broad_base {
@@ -216,7 +226,7 @@ pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<Forest> {
 /// (beyond 4 sigma) dips and of the significant bumps, or `None` without a
 /// broad group.
 pub(crate) fn broad_dips(native: &Native, fit: &JointFit) -> Option<(f64, f64)> {
-    if !fit.lines.iter().any(|l| l.group == Group::EmBroad) {
+    if !fit.broad_base {
         return None;
     }
     let sig = fit.widths[Group::EmBroad as usize];
@@ -398,18 +408,11 @@ pub(crate) fn score(
         // Ca II H and K of an old population are broad), and only when such
         // lines carry much of the evidence (one noise bump fitted as a broad
         // line beside real absorption says nothing).
-        let power = |broad_only: bool| -> f64 {
-            lines
-                .iter()
-                .filter(|m| m.snr.abs() >= 4.0)
-                .filter(|m| {
-                    !broad_only || (m.group == Group::EmNarrow && m.snr > 0.0 && m.fwhm_kms > limit)
-                })
-                .map(|m| m.snr * m.snr)
-                .sum()
-        };
-        let all = power(false);
-        if all > 0.0 && power(true) >= 0.3 * all {
+        let all = snr_power(&lines, |m| m.snr.abs() >= 4.0);
+        let too_broad = snr_power(&lines, |m| {
+            m.group == Group::EmNarrow && m.snr >= 4.0 && m.fwhm_kms > limit
+        });
+        if all > 0.0 && too_broad >= 0.3 * all {
             score *= 0.3;
             notes.push(format!("lines broader than {limit:.0} km/s for a galaxy"));
         }
@@ -465,12 +468,10 @@ pub(crate) fn score(
                 notes.push(format!("{} absent", absent.join(", ")));
             }
         }
-        let power = |broad: bool| -> f64 {
-            lines
-                .iter()
-                .filter(|m| (m.group == Group::EmBroad) == broad && m.snr >= 4.0)
-                .map(|m| m.snr * m.snr)
-                .sum()
+        let power = |broad: bool| {
+            snr_power(&lines, |m| {
+                (m.group == Group::EmBroad) == broad && m.snr >= 4.0
+            })
         };
         if n_broad == 0 {
             score = score.min(0.0);
