@@ -159,8 +159,8 @@ pub(crate) struct Forest {
     pub dips: f64,
     /// Scatter about the narrow continuum in the blue window beyond the
     /// noise, as a fraction of the red window's median flux: a forest of
-    /// absorbers scatters the flux by tens of per cent, a continuum break
-    /// with a few stellar lines by a few.
+    /// absorbers scatters the flux by tens of per cent (from memory), a
+    /// continuum break with a few stellar lines by a few.
     pub scatter: f64,
     /// S/N of the red window's median per pixel.
     pub red_snr: f64,
@@ -397,8 +397,8 @@ pub(crate) fn score(
     let max_snr = lines.iter().map(|m| m.snr.abs()).fold(0.0, f64::max);
     let mut score = evidence - penalty;
     // Emission lines of a galaxy are narrow: velocity dispersions and
-    // narrow-line regions give FWHM up to several hundred km/s, the
-    // instrument a few pixels. Widths far beyond that come from structure
+    // narrow-line regions give FWHM up to several hundred km/s (common
+    // practice, no source), the instrument a few pixels. Widths far beyond that come from structure
     // in the continuum (ripples, breaks), not from lines.
     if hypothesis == Hypothesis::Galaxy && native.lnw.len() > 1 {
         let n = native.lnw.len();
