@@ -258,7 +258,19 @@ fn main() {
                     l.name, l.rest_wavelength, l.observed_wavelength, l.fwhm_kms
                 );
             }
-            for k in an.candidates.iter().take(2) {
+            let at_truth = id.candidate_at(&spec, &an, syn.truth.z);
+            println!(
+                "  at the true z: {} score {:.0} | {}",
+                at_truth.class.as_str(),
+                at_truth.score,
+                at_truth.reason
+            );
+            for k in an
+                .candidates
+                .iter()
+                .take(2)
+                .chain(std::iter::once(&at_truth))
+            {
                 println!("  cand {} z {:.5}", k.class.as_str(), k.z);
                 for m in &k.matched {
                     println!(

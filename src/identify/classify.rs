@@ -93,6 +93,15 @@ fn find<'a>(cat: &Catalogue, lines: &'a [LineMeasure], name: &str) -> Option<&'a
     lines.iter().find(|m| cat.lines[m.line].name == name)
 }
 
+/// Whether a galaxy fit is in fact a star's: within stellar velocities
+/// (`|v| <= v_star`) and with nearly all its evidence in absorption (S/N^2
+/// of emission under 15% of that of absorption).
+pub(crate) fn looks_stellar(sc: &Scored, velocity_kms: f64, v_star: f64) -> bool {
+    sc.hypothesis == Hypothesis::Galaxy
+        && velocity_kms.abs() <= v_star
+        && snr_power(&sc.lines, |m| m.snr >= 3.0) < 0.15 * snr_power(&sc.lines, |m| m.snr <= -3.0)
+}
+
 /// Class from the hypothesis and the evidence; subclass and derived values
 /// where the lines allow.
 pub(crate) fn classify(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_star: f64) -> Classified {
@@ -103,10 +112,7 @@ pub(crate) fn classify(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_star: 
     // A "galaxy" within stellar velocities whose evidence is nearly all
     // absorption is a star (a noise bump fitted as weak emission does not
     // make it a galaxy).
-    if sc.hypothesis == Hypothesis::Galaxy
-        && velocity_kms.abs() <= v_star
-        && snr_power(&sc.lines, |m| m.snr >= 3.0) < 0.15 * snr_power(&sc.lines, |m| m.snr <= -3.0)
-    {
+    if looks_stellar(sc, velocity_kms, v_star) {
         class = ObjectClass::Star;
     }
     let mut subclass = None;

@@ -712,8 +712,20 @@ impl Work {
         let mut chi2 = 0.0;
         let nc = self.der.len();
         let identity = layout.comps.iter().all(|(_, t)| t.is_none());
+        // Without ties a pixel touches only the parameters of the
+        // components within reach: the normal matrix is accumulated over
+        // those (listed in `nz`, ascending) instead of all m x m pairs.
+        let mut nz: Vec<usize> = Vec::with_capacity(m);
+        self.row.iter_mut().for_each(|v| *v = 0.0);
         for q in px {
-            self.row.iter_mut().for_each(|v| *v = 0.0);
+            if identity {
+                for &i in &nz {
+                    self.row[i] = 0.0;
+                }
+                nz.clear();
+            } else {
+                self.row.iter_mut().for_each(|v| *v = 0.0);
+            }
             let mut model = off + slo * (q.x - layout.x0);
             for k in 0..nc {
                 let d = self.der[k];
@@ -729,14 +741,11 @@ impl Work {
                 if identity {
                     // No ties: each quantity is one parameter.
                     let (slots, _) = &layout.comps[k];
-                    if let Some(i) = slots.c {
-                        self.row[i] += dc;
-                    }
-                    if let Some(i) = slots.s {
-                        self.row[i] += ds;
-                    }
-                    if let Some(i) = slots.a {
-                        self.row[i] += da;
+                    for (slot, v) in [(slots.c, dc), (slots.s, ds), (slots.a, da)] {
+                        if let Some(i) = slot {
+                            self.row[i] += v;
+                            nz.push(i);
+                        }
                     }
                     continue;
                 }
@@ -749,12 +758,26 @@ impl Work {
             }
             if let Some(i) = layout.offset {
                 self.row[i] += 1.0;
+                nz.push(i);
             }
             if let Some(i) = layout.slope {
                 self.row[i] += q.x - layout.x0;
+                nz.push(i);
             }
             let r = q.y - model;
             chi2 += q.w * r * r;
+            if identity {
+                nz.sort_unstable();
+                nz.dedup();
+                for (p, &i) in nz.iter().enumerate() {
+                    let wi = q.w * self.row[i];
+                    self.g[i] += wi * r;
+                    for &j in &nz[..=p] {
+                        self.a[i * m + j] += wi * self.row[j];
+                    }
+                }
+                continue;
+            }
             for i in 0..m {
                 let wi = q.w * self.row[i];
                 self.g[i] += wi * r;

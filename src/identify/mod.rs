@@ -331,7 +331,18 @@ impl Identifier {
     /// widths: a cheap first look, used to choose which seeds to refine.
     fn first_look(&self, prep: &Prepared, h: Hypothesis, s0: f64) -> f64 {
         let (lines, sigma) = self.setup(prep, h, s0);
-        redshift::gain_at(&prep.native, &lines, s0, sigma)
+        let first = redshift::gain_at(&prep.native, &lines, s0, sigma);
+        // The starting width comes from the best single kernel, which an
+        // unresolved doublet (e.g. [O II] 3726, 3729) widens: look also at
+        // narrower lines, so the doublet's own fit is not ranked below a
+        // single line's.
+        let mut narrower = sigma;
+        narrower[redshift::Group::EmNarrow as usize] *= 0.55;
+        if h == Hypothesis::Star {
+            first
+        } else {
+            first.max(redshift::gain_at(&prep.native, &lines, s0, narrower))
+        }
     }
 
     /// Refine a seed: choose the hypothesis's lines, fit them jointly, score.
@@ -488,6 +499,13 @@ impl Identifier {
         for (s, _, _) in redshift::vote(features, &self.catalogue, s_lo, s_hi, g.step.max(2e-4)) {
             seeds.push((Hypothesis::Galaxy, s, 2.0 * g.step));
         }
+        // One bright line alone: the comb scan ranks its aliases by the
+        // catalogue weights and votes need two lines, so each strong
+        // emission line of the catalogue is tried on the brightest
+        // detections; the first look below chooses among them.
+        for s in redshift::single_line_seeds(features, &self.catalogue, s_lo, s_hi) {
+            seeds.push((Hypothesis::Galaxy, s, 2.0 * g.step));
+        }
         // Seeds found by more than one route (comb, cross-correlation,
         // votes) at the same place would refine to the same fit.
         let seeds = merge_seeds(seeds);
@@ -543,6 +561,23 @@ impl Identifier {
                 if let Some(c) = self.refine(prep, h, s, 0.5 * g.step, Some(edge)) {
                     scored.push(c);
                 }
+            }
+        }
+        // A galaxy fit at a stellar velocity with nearly only absorption is
+        // a star, but its free emission lines and galaxy widths can pull
+        // the velocity (a broad "metal" line beside a Balmer line, a
+        // forbidden line in a wing): such a fit is replaced by the star
+        // fit at the same place when that explains most of the same
+        // evidence.
+        let v_star = self.settings.star_v_max_kms;
+        for c in scored.iter_mut() {
+            if !classify::looks_stellar(c, velocity_of(c.s.exp() - 1.0), v_star) {
+                continue;
+            }
+            if let Some(st) = self.refine(prep, Hypothesis::Star, c.s, 2.0 * g.step, None)
+                && st.score >= STAR_REFIT_SHARE * c.score
+            {
+                *c = st;
             }
         }
         self.rank(scored)
@@ -748,6 +783,10 @@ fn nothing_found() -> Candidate {
 
 /// How many seeds of each hypothesis (galaxy, quasar, star) are refined.
 const SEEDS_KEPT: (usize, usize, usize) = (4, 3, 1);
+
+/// The share of a stellar-looking galaxy fit's score that the star fit at
+/// the same place must reach to replace it.
+const STAR_REFIT_SHARE: f64 = 0.7;
 
 /// Evidence needed before a class is claimed.
 const MIN_SCORE: f64 = 30.0;

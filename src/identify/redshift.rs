@@ -323,6 +323,8 @@ struct Eval {
 struct Columns {
     keys: Vec<Option<(f64, f64, f64)>>,
     cols: Vec<(usize, Vec<f64>)>,
+    /// Good pixels (ivar > 0) under each column.
+    npix: Vec<usize>,
 }
 
 impl Columns {
@@ -330,6 +332,7 @@ impl Columns {
         Columns {
             keys: vec![None; n],
             cols: vec![(0, Vec::new()); n],
+            npix: vec![0; n],
         }
     }
 
@@ -343,7 +346,12 @@ impl Columns {
             };
             let key = (x, widths[l.group as usize], edge);
             if self.keys[i] != Some(key) {
-                self.cols[i] = column(native, x, l.group, widths);
+                let (a, v) = column(native, x, l.group, widths);
+                self.npix[i] = native.ivar[a..a + v.len()]
+                    .iter()
+                    .filter(|w| **w > 0.0)
+                    .count();
+                self.cols[i] = (a, v);
                 self.keys[i] = Some(key);
             }
         }
@@ -368,10 +376,7 @@ fn evaluate(
     } else {
         &native.cont_narrow
     };
-    let npix: Vec<usize> = cols
-        .iter()
-        .map(|(a, v)| (0..v.len()).filter(|&k| native.ivar[a + k] > 0.0).count())
-        .collect();
+    let npix = &cache.npix;
     let mut amp = vec![0.0; n];
     let mut var = vec![0.0; n];
     let mut gain = 0.0;
@@ -394,9 +399,14 @@ fn evaluate(
         let first = cols[order[start]].0;
         let cluster = &order[start..end];
         gain += solve_cluster(
-            native, lines, cols, base, &npix, cluster, &mut amp, &mut var, want_var,
+            native, lines, cols, base, npix, cluster, &mut amp, &mut var, want_var,
         );
-        // Chi-square of the cluster's pixels under the fitted model.
+        // Chi-square of the cluster's pixels under the fitted model (only
+        // the final evaluation of a fit needs it, for the error scale).
+        if !want_var {
+            start = end;
+            continue;
+        }
         let mut model = vec![0.0; reach - first];
         for &i in cluster {
             let (a, v) = &cols[i];
@@ -422,7 +432,7 @@ fn evaluate(
         gain,
         amp,
         var,
-        npix,
+        npix: npix.clone(),
         chi2,
         dof: (cnt - nact - 1.0).max(1.0),
     }
@@ -833,6 +843,51 @@ pub(crate) fn vote(
     }
     out.sort_by(|a, b| b.1.total_cmp(&a.1));
     out.truncate(8);
+    out
+}
+
+/// How many of the brightest emission detections seed single-line
+/// galaxy solutions.
+const SINGLE_LINE_FEATURES: usize = 3;
+
+/// Seeds for a spectrum whose redshift rests on one bright line: each of the
+/// brightest unflagged emission detections (S/N >= 8) taken as each strong
+/// narrow galaxy emission line of the catalogue (strength >= 0.3), as
+/// ln(1+z) within `[s_lo, s_hi]`.
+pub(crate) fn single_line_seeds(
+    features: &[Feature],
+    cat: &Catalogue,
+    s_lo: f64,
+    s_hi: f64,
+) -> Vec<f64> {
+    let mut bright: Vec<&Feature> = features
+        .iter()
+        .filter(|f| {
+            f.flag.is_none()
+                && f.kind == FeatureKind::Emission
+                && f.snr >= 8.0
+                && f.wavelength > 0.0
+        })
+        .collect();
+    bright.sort_by(|a, b| b.snr.total_cmp(&a.snr));
+    let mut out = Vec::new();
+    for f in bright.into_iter().take(SINGLE_LINE_FEATURES) {
+        for l in &cat.lines {
+            if !matches!(l.kind, LineKind::Emission | LineKind::Both)
+                || l.width != crate::lines::Width::Narrow
+                || !l.classes.contains(&crate::lines::ObjectClass::Galaxy)
+                || l.strength < 0.3
+                || l.wavelength.is_nan()
+                || l.wavelength <= 0.0
+            {
+                continue;
+            }
+            let s = (f.wavelength / l.wavelength).ln();
+            if (s_lo..=s_hi).contains(&s) {
+                out.push(s);
+            }
+        }
+    }
     out
 }
 
