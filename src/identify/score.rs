@@ -509,9 +509,19 @@ pub(crate) fn score(
     }
 }
 
-/// Penalty for a flux ratio n/d outside `range`, by its deviation in errors:
-/// `min((dev/err)^2 - 4, 80)` when the deviation exceeds two errors.
-/// `None` when the denominator is not measured.
+/// Systematic flux error of a measured line, as a fraction of its flux
+/// (flux calibration across the spectrum and the shape of blends: a few
+/// percent is common practice, no source), added to the statistical errors
+/// in the ratio checks so bright lines are not held to sub-percent ratios.
+const RATIO_SYSTEMATIC: f64 = 0.05;
+
+/// Penalty for a flux ratio n/d outside `range`: the chi-square distance of
+/// the measured pair from the nearest allowed pair, `(f_n - r f_d)^2 /
+/// (e_n^2 + r^2 e_d^2 + systematics)` at the nearer bound `r`, less 4
+/// (two errors are free). This
+/// linear form stays right when the denominator is absent (a quotient then
+/// has no meaning): a bright 5007 without its 4959 costs about the square
+/// of the S/N 4959 should have had. `None` when an error is not measured.
 pub(crate) fn ratio_penalty(n: &LineMeasure, d: &LineMeasure, range: (f64, f64)) -> Option<f64> {
     // Fluxes in the expected sense (emission positive, absorption as depth).
     let sign = if d.flux < 0.0 || n.flux < 0.0 {
@@ -523,24 +533,23 @@ pub(crate) fn ratio_penalty(n: &LineMeasure, d: &LineMeasure, range: (f64, f64))
     if d.flux_err.is_nan() || n.flux_err.is_nan() || d.flux_err <= 0.0 || n.flux_err <= 0.0 {
         return None;
     }
-    let fden_eff = fden.max(d.flux_err);
-    let r = fnum.max(0.0) / fden_eff;
-    let rel_n = n.flux_err / fnum.abs().max(n.flux_err);
-    let rel_d = d.flux_err / fden_eff;
-    let err = (r * (rel_n * rel_n + rel_d * rel_d).sqrt()).max(n.flux_err / fden_eff);
-    let dev = if r < range.0 {
-        range.0 - r
-    } else if r > range.1 {
-        r - range.1
-    } else {
-        0.0
+    let inside = fnum >= range.0 * fden && (range.1.is_infinite() || fnum <= range.1 * fden);
+    if inside {
+        return Some(0.0);
+    }
+    let chi2_at = |r: f64| {
+        let dev = fnum - r * fden;
+        let var = n.flux_err.powi(2)
+            + (r * d.flux_err).powi(2)
+            + (RATIO_SYSTEMATIC * fnum).powi(2)
+            + (RATIO_SYSTEMATIC * r * fden).powi(2);
+        dev * dev / var
     };
-    let z = dev / err;
-    Some(if z > 2.0 {
-        (z * z - 4.0).min(80.0)
-    } else {
-        0.0
-    })
+    let mut chi2 = chi2_at(range.0);
+    if range.1.is_finite() {
+        chi2 = chi2.min(chi2_at(range.1));
+    }
+    Some((chi2 - 4.0).max(0.0))
 }
 
 #[cfg(test)]
@@ -575,5 +584,30 @@ mod tests {
         // 5007 needing to be a third of 4959: ratio 0.33 against ~3.
         let p = ratio_penalty(&lm(10.0, 1.0), &lm(30.0, 1.0), (2.8, 3.2)).unwrap();
         assert!(p > 50.0, "{p}");
+    }
+
+    #[test]
+    fn a_bright_line_without_its_fixed_partner_is_penalised_by_its_brightness() {
+        // 5007 at S/N 256 with no 4959 beside it: 4959 should have had S/N
+        // ~85 (ratio ~3), so the cost is of order 85^2 shrunk by the 5%
+        // systematics; at the nearer bound r = 3.1 (by hand):
+        // 256^2 / (1 + 3.1^2 + 0.05^2 * 256^2) - 4 = 65536 / 174.45 - 4 = 371.7.
+        let p = ratio_penalty(&lm(256.0, 1.0), &lm(0.0, 1.0), (2.9, 3.1)).unwrap();
+        assert!((p - 371.7).abs() < 0.1, "{p}");
+        // A faint pair with the same shape costs nothing: within two errors.
+        let p = ratio_penalty(&lm(3.0, 1.0), &lm(0.0, 1.0), (2.9, 3.1)).unwrap();
+        assert_eq!(p, 0.0);
+    }
+
+    #[test]
+    fn a_lower_bound_only_range_accepts_any_larger_ratio() {
+        // Balmer decrement: H-alpha/H-beta >= 0.7 x 2.86; dust raises it freely.
+        assert_eq!(
+            ratio_penalty(&lm(100.0, 1.0), &lm(5.0, 1.0), (2.0, f64::INFINITY)),
+            Some(0.0)
+        );
+        // Equal fluxes against >= 2: (100 - 200)^2 / (1 + 4 + 25 + 100) - 4 = 72.9.
+        let p = ratio_penalty(&lm(100.0, 1.0), &lm(100.0, 1.0), (2.0, f64::INFINITY)).unwrap();
+        assert!((p - 72.9).abs() < 0.1, "{p}");
     }
 }
