@@ -12,7 +12,7 @@ pub mod detect;
 pub mod fit;
 pub mod noise;
 
-use crate::lines::{Catalogue, ForegroundKind, LineKind, ObjectClass};
+use crate::lines::{Catalogue, ForegroundKind, LineKind, ObjectClass, Width};
 use crate::spectrum::Spectrum;
 use serde::{Deserialize, Serialize};
 
@@ -355,14 +355,31 @@ impl Identifier {
         forest_edge: Option<f64>,
     ) -> Option<Scored> {
         let (lines, sigma) = self.setup(prep, h, s0);
-        let fit = redshift::joint_fit(&prep.native, lines, s0, reach, sigma)?;
-        Some(score::score(
-            &self.catalogue,
-            h,
-            &prep.native,
-            &fit,
-            forest_edge,
-        ))
+        let fit = redshift::joint_fit(&prep.native, lines.clone(), s0, reach, sigma)?;
+        let sc = score::score(&self.catalogue, h, &prep.native, &fit, forest_edge);
+        // Lines the physics rules out (high-order Balmer lines far stronger
+        // than the low ones, a doublet member far stronger than its
+        // partner) are not what this candidate calls them: drop them and
+        // fit again.
+        let bad = score::implausible_lines(&self.catalogue, &fit, &sc.lines);
+        if bad.is_empty() {
+            return Some(sc);
+        }
+        let names: Vec<String> = bad
+            .iter()
+            .map(|&i| self.catalogue.lines[fit.lines[i].line].name.clone())
+            .collect();
+        let kept: Vec<redshift::FitLine> = lines
+            .into_iter()
+            .filter(|l| !bad.iter().any(|&i| fit.lines[i].line == l.line))
+            .collect();
+        let fit = redshift::joint_fit(&prep.native, kept, s0, reach, sigma)?;
+        let mut sc = score::score(&self.catalogue, h, &prep.native, &fit, forest_edge);
+        sc.notes.push(format!(
+            "{} dropped: stronger than atomic physics allows",
+            names.join(", ")
+        ));
+        Some(sc)
     }
 
     /// The lines of hypothesis `h` at ln(1+z) = `s0` and the starting widths.
@@ -503,8 +520,13 @@ impl Identifier {
         // catalogue weights and votes need two lines, so each strong
         // emission line of the catalogue is tried on the brightest
         // detections; the first look below chooses among them.
-        for s in redshift::single_line_seeds(features, &self.catalogue, s_lo, s_hi) {
-            seeds.push((Hypothesis::Galaxy, s, 2.0 * g.step));
+        for (h, kind) in [
+            (Hypothesis::Galaxy, (ObjectClass::Galaxy, Width::Narrow)),
+            (Hypothesis::Qso, (ObjectClass::Qso, Width::Broad)),
+        ] {
+            for s in redshift::single_line_seeds(features, &self.catalogue, kind, s_lo, s_hi) {
+                seeds.push((h, s, 2.0 * g.step));
+            }
         }
         // Seeds found by more than one route (comb, cross-correlation,
         // votes) at the same place would refine to the same fit.

@@ -871,11 +871,13 @@ const SINGLE_LINE_FEATURES: usize = 3;
 
 /// Seeds for a spectrum whose redshift rests on one bright line: each of the
 /// brightest unflagged emission detections (S/N >= 8) taken as each strong
-/// narrow galaxy emission line of the catalogue (strength >= 0.3), as
-/// ln(1+z) within `[s_lo, s_hi]`.
+/// emission line (strength >= 0.3) of `class` and `width` in the catalogue
+/// (narrow galaxy lines, broad quasar lines), as ln(1+z) within
+/// `[s_lo, s_hi]`.
 pub(crate) fn single_line_seeds(
     features: &[Feature],
     cat: &Catalogue,
+    (class, width): (crate::lines::ObjectClass, crate::lines::Width),
     s_lo: f64,
     s_hi: f64,
 ) -> Vec<f64> {
@@ -893,8 +895,8 @@ pub(crate) fn single_line_seeds(
     for f in bright.into_iter().take(SINGLE_LINE_FEATURES) {
         for l in &cat.lines {
             if !matches!(l.kind, LineKind::Emission | LineKind::Both)
-                || l.width != crate::lines::Width::Narrow
-                || !l.classes.contains(&crate::lines::ObjectClass::Galaxy)
+                || l.width != width
+                || !l.classes.contains(&class)
                 || l.strength < 0.3
                 || l.wavelength.is_nan()
                 || l.wavelength <= 0.0

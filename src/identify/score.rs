@@ -31,6 +31,116 @@ pub const CASE_B_HALPHA_HBETA: f64 = 2.86;
 /// H-gamma / H-beta = 0.468).
 pub const CASE_B_HBETA_HGAMMA: f64 = 1.0 / 0.468;
 
+/// Case B Balmer line flux relative to H-beta for upper level `n` at
+/// T = 10^4 K, low density (Osterbrock & Ferland 2006, table 4.2: H-alpha
+/// 2.86, H-gamma 0.468, H-delta 0.259, H-epsilon 0.159, H8 0.105, H9 0.0731,
+/// H10 0.0530; from memory). Above n = 10 the fluxes are extrapolated from
+/// H10 as n^-3, the slope of H8-H10 in that table (approximate; the check
+/// that uses them allows a factor of three). `None` below n = 3.
+pub(crate) fn case_b_balmer(n: u32) -> Option<f64> {
+    Some(match n {
+        3 => CASE_B_HALPHA_HBETA,
+        4 => 1.0,
+        5 => 0.468,
+        6 => 0.259,
+        7 => 0.159,
+        8 => 0.105,
+        9 => 0.0731,
+        10 => 0.0530,
+        n if n > 10 => 0.0530 * (10.0 / n as f64).powi(3),
+        _ => return None,
+    })
+}
+
+/// The Balmer upper level of a catalogue line name (`H-beta`, `H12`,
+/// `H-alpha broad`), if it is a Balmer line.
+fn balmer_level(name: &str) -> Option<u32> {
+    let base = name.strip_suffix(" broad").unwrap_or(name);
+    match crate::physics::hydrogen::parse_member(base)? {
+        (crate::physics::hydrogen::Series::Balmer, n) => Some(n),
+        _ => None,
+    }
+}
+
+/// How far below its Case B share a low Balmer line may be before a
+/// high-order member beside it is ruled out: dust and underlying stellar
+/// absorption only make the high-order lines weaker still, so a low line
+/// at under 30% of its Case B flux relative to a high-order one means the
+/// "high-order" line is something else.
+const BALMER_SLACK: f64 = 0.3;
+
+/// Emission lines of a fit that physics rules out. The Balmer series: a high-order
+/// member (n >= 8) seen at S/N >= 3 while a lower member (H-beta to
+/// H-epsilon) measured in the same fit and group is far weaker than Case B
+/// requires (by more than three errors below `BALMER_SLACK` of its Case B
+/// flux). Returns their indices into the fit's lines. A run of high-order
+/// lines at one broad feature (H12-H16 standing in for a quasar's Mg II) is
+/// the usual case.
+pub(crate) fn implausible_lines(
+    cat: &Catalogue,
+    fit: &JointFit,
+    lines: &[LineMeasure],
+) -> Vec<usize> {
+    let level = |m: &LineMeasure| balmer_level(&cat.lines[m.line].name);
+    let mut out = Vec::new();
+    for m in lines.iter().filter(|m| m.snr >= 3.0 && m.flux > 0.0) {
+        let Some(n) = level(m).filter(|n| *n >= 8) else {
+            continue;
+        };
+        let Some(r_n) = case_b_balmer(n) else {
+            continue;
+        };
+        let ruled_out = lines.iter().any(|low| {
+            let Some(k) = level(low).filter(|k| (4..=7).contains(k)) else {
+                return false;
+            };
+            let Some(r_k) = case_b_balmer(k) else {
+                return false;
+            };
+            low.group == m.group
+                && low.npix >= 3
+                && low.flux_err > 0.0
+                && low.flux + 3.0 * low.flux_err < BALMER_SLACK * r_k / r_n * m.flux
+        });
+        if ruled_out && let Some(i) = fit.lines.iter().position(|l| l.line == m.line) {
+            out.push(i);
+        }
+    }
+    // Fixed doublet ratios (A-value pairs, allowed range within a factor
+    // 1.5) and the Balmer decrement's floor: a pair off by more than a
+    // factor two beyond its range, and by more than three errors, says the
+    // line that is too strong is not what the candidate calls it.
+    let find = |name: &str| lines.iter().find(|m| cat.lines[m.line].name == name);
+    for r in &cat.ratios {
+        let doublet = r.range.1 / r.range.0 <= 1.5;
+        let decrement = r.numerator == "H-alpha" && r.denominator == "H-beta";
+        if !doublet && !decrement {
+            continue;
+        }
+        let (Some(n), Some(d)) = (find(&r.numerator), find(&r.denominator)) else {
+            continue;
+        };
+        if n.npix < 3 || d.npix < 3 || n.flux < 0.0 || d.flux < 0.0 {
+            continue;
+        }
+        let too_strong =
+            if doublet && n.snr >= 3.0 && n.flux - 3.0 * n.flux_err > 2.0 * r.range.1 * d.flux {
+                Some(n.line)
+            } else if d.snr >= 3.0 && n.flux + 3.0 * n.flux_err < 0.5 * r.range.0 * d.flux {
+                Some(d.line)
+            } else {
+                None
+            };
+        if let Some(line) = too_strong
+            && let Some(i) = fit.lines.iter().position(|l| l.line == line)
+            && !out.contains(&i)
+        {
+            out.push(i);
+        }
+    }
+    out
+}
+
 /// Per-line measured quantities of a fit.
 #[derive(Debug, Clone)]
 pub(crate) struct LineMeasure {
@@ -584,6 +694,35 @@ mod tests {
         // 5007 needing to be a third of 4959: ratio 0.33 against ~3.
         let p = ratio_penalty(&lm(10.0, 1.0), &lm(30.0, 1.0), (2.8, 3.2)).unwrap();
         assert!(p > 50.0, "{p}");
+    }
+
+    #[test]
+    fn case_b_balmer_fluxes_follow_the_table_and_fall_with_level() {
+        // Osterbrock & Ferland (2006) table 4.2, from memory.
+        assert_eq!(case_b_balmer(4), Some(1.0));
+        assert_eq!(case_b_balmer(5), Some(0.468));
+        assert_eq!(case_b_balmer(10), Some(0.0530));
+        assert_eq!(case_b_balmer(2), None);
+        // The n^-3 extrapolation continues the table's own slope: H8 -> H10
+        // falls as (8/10)^3.1 in the table.
+        let slope = (0.105f64 / 0.0530).ln() / (10.0f64 / 8.0).ln();
+        assert!((slope - 3.0).abs() < 0.15, "{slope}");
+        let mut last = f64::INFINITY;
+        for n in 3..40 {
+            let r = case_b_balmer(n).unwrap();
+            assert!(r < last, "H{n}");
+            last = r;
+        }
+        assert!((case_b_balmer(20).unwrap() - 0.0530 / 8.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn balmer_levels_are_read_from_catalogue_names() {
+        assert_eq!(balmer_level("H-alpha"), Some(3));
+        assert_eq!(balmer_level("H-beta broad"), Some(4));
+        assert_eq!(balmer_level("H14"), Some(14));
+        assert_eq!(balmer_level("Pa18"), None);
+        assert_eq!(balmer_level("[O III] 5007"), None);
     }
 
     #[test]
