@@ -818,7 +818,10 @@ const MIN_SCORE: f64 = 30.0;
 /// claim a class.
 fn grade_of(sc: &Scored, next: f64) -> (Grade, bool) {
     let margin = sc.score - next;
-    let weak = sc.score < MIN_SCORE || (sc.n_sig < 2 && sc.max_snr < 6.0);
+    // Broad dips as strong as the broad bumps say the "lines" are a ripple
+    // of the flux calibration or a continuum break: no class is claimed.
+    let ripple = sc.notes.iter().any(|n| n.starts_with(score::RIPPLE_NOTE));
+    let weak = sc.score < MIN_SCORE || (sc.n_sig < 2 && sc.max_snr < 6.0) || ripple;
     let grade = if weak {
         Grade::Poor
     } else if sc.n_sig >= 4 && sc.score >= 150.0 && margin >= 0.3 * sc.score && sc.penalty < 10.0 {

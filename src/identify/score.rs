@@ -141,6 +141,10 @@ pub(crate) fn implausible_lines(
     out
 }
 
+/// The note of a quasar candidate whose broad lines come with as many broad
+/// dips (a flux-calibration ripple or a continuum break).
+pub(crate) const RIPPLE_NOTE: &str = "broad dips beside the broad lines: a ripple?";
+
 /// Per-line measured quantities of a fit.
 #[derive(Debug, Clone)]
 pub(crate) struct LineMeasure {
@@ -596,7 +600,7 @@ pub(crate) fn score(
             // dips as well as broad bumps; a quasar's continuum between its
             // lines (outside the forest and telluric bands) has no dips.
             score *= 0.25;
-            notes.push("broad dips beside the broad lines: a ripple?".to_string());
+            notes.push(RIPPLE_NOTE.to_string());
         } else if power(true) < 0.2 * power(false) {
             // Broad wings under strong narrow lines (an instrument profile
             // that is not quite Gaussian) do not make a quasar: the broad
