@@ -69,13 +69,16 @@ fn balmer_level(name: &str) -> Option<u32> {
 /// "high-order" line is something else.
 const BALMER_SLACK: f64 = 0.3;
 
-/// Emission lines of a fit that physics rules out. The Balmer series: a high-order
-/// member (n >= 8) seen at S/N >= 3 while a lower member (H-beta to
-/// H-epsilon) measured in the same fit and group is far weaker than Case B
-/// requires (by more than three errors below `BALMER_SLACK` of its Case B
-/// flux). Returns their indices into the fit's lines. A run of high-order
-/// lines at one broad feature (H12-H16 standing in for a quasar's Mg II) is
-/// the usual case.
+/// Emission lines of a fit that atomic physics rules out, as indices into
+/// the fit's lines:
+/// - a high-order Balmer line (n >= 8) seen at S/N >= 3 while a lower member
+///   (H-beta to H-epsilon) measured in the same fit and group is more than
+///   three errors below `BALMER_SLACK` of its Case B flux relative to it (a
+///   run of H12-H16 standing in for a quasar's Mg II is the usual case);
+/// - a member of an A-value doublet (allowed range within a factor 1.5)
+///   more than twice as strong, beyond three errors, as the range allows
+///   beside its partner;
+/// - H-beta more than twice as strong as the H-alpha/H-beta floor allows.
 pub(crate) fn implausible_lines(
     cat: &Catalogue,
     fit: &JointFit,
