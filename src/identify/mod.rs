@@ -331,18 +331,16 @@ impl Identifier {
     /// widths: a cheap first look, used to choose which seeds to refine.
     fn first_look(&self, prep: &Prepared, h: Hypothesis, s0: f64) -> f64 {
         let (lines, sigma) = self.setup(prep, h, s0);
-        let first = redshift::gain_at(&prep.native, &lines, s0, sigma);
+        if h == Hypothesis::Star {
+            return redshift::gain_at(&prep.native, &lines, s0, &[sigma]);
+        }
         // The starting width comes from the best single kernel, which an
         // unresolved doublet (e.g. [O II] 3726, 3729) widens: look also at
         // narrower lines, so the doublet's own fit is not ranked below a
         // single line's.
         let mut narrower = sigma;
         narrower[redshift::Group::EmNarrow as usize] *= 0.55;
-        if h == Hypothesis::Star {
-            first
-        } else {
-            first.max(redshift::gain_at(&prep.native, &lines, s0, narrower))
-        }
+        redshift::gain_at(&prep.native, &lines, s0, &[sigma, narrower])
     }
 
     /// Refine a seed: choose the hypothesis's lines, fit them jointly, score.

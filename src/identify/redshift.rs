@@ -593,24 +593,36 @@ fn uses_broad_base(lines: &[FitLine]) -> bool {
     lines.iter().any(|l| l.group == Group::EmBroad)
 }
 
-/// The chi-square gain of `lines` at ln(1+z) = `s` with the given starting
-/// widths (km/s, clamped to the group limits), less 2 per free amplitude.
-pub(crate) fn gain_at(native: &Native, lines: &[FitLine], s: f64, sigma_kms: [f64; GROUPS]) -> f64 {
+/// The best chi-square gain of `lines` at ln(1+z) = `s` over the given sets
+/// of starting widths (km/s, clamped to the group limits), less 2 per free
+/// amplitude. The sets share one column cache, so a set that changes one
+/// group's width recomputes only that group's columns.
+pub(crate) fn gain_at(
+    native: &Native,
+    lines: &[FitLine],
+    s: f64,
+    sigma_sets: &[[f64; GROUPS]],
+) -> f64 {
     if lines.is_empty() {
         return f64::NEG_INFINITY;
     }
-    let widths = start_widths(sigma_kms);
     let cache = std::cell::RefCell::new(Columns::new(lines.len()));
-    let ev = evaluate(
-        native,
-        lines,
-        s,
-        &widths,
-        uses_broad_base(lines),
-        false,
-        &cache,
-    );
-    ev.gain - 2.0 * ev.amp.iter().filter(|a| **a != 0.0).count() as f64
+    let broad = uses_broad_base(lines);
+    sigma_sets
+        .iter()
+        .map(|sigma| {
+            let ev = evaluate(
+                native,
+                lines,
+                s,
+                &start_widths(*sigma),
+                broad,
+                false,
+                &cache,
+            );
+            ev.gain - 2.0 * ev.amp.iter().filter(|a| **a != 0.0).count() as f64
+        })
+        .fold(f64::NEG_INFINITY, f64::max)
 }
 
 /// Joint fit of `lines` near ln(1+z) = `s0`, searching +- `reach` in s.

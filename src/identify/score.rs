@@ -23,6 +23,7 @@ use super::redshift::{Group, JointFit, Native, profile_area};
 use super::xcorr::Hypothesis;
 use crate::lines::Catalogue;
 use crate::physics::constants::C_KM_S;
+use crate::physics::hydrogen;
 
 /// Case B H-alpha / H-beta flux ratio at T = 10^4 K, n_e = 10^2 cm^-3
 /// (Osterbrock & Ferland 2006, Astrophysics of Gaseous Nebulae, table 4.4).
@@ -31,33 +32,12 @@ pub const CASE_B_HALPHA_HBETA: f64 = 2.86;
 /// H-gamma / H-beta = 0.468).
 pub const CASE_B_HBETA_HGAMMA: f64 = 1.0 / 0.468;
 
-/// Case B Balmer line flux relative to H-beta for upper level `n` at
-/// T = 10^4 K, low density (Osterbrock & Ferland 2006, table 4.2: H-alpha
-/// 2.86, H-gamma 0.468, H-delta 0.259, H-epsilon 0.159, H8 0.105, H9 0.0731,
-/// H10 0.0530; from memory). Above n = 10 the fluxes are extrapolated from
-/// H10 as n^-3, the slope of H8-H10 in that table (approximate; the check
-/// that uses them allows a factor of three). `None` below n = 3.
-pub(crate) fn case_b_balmer(n: u32) -> Option<f64> {
-    Some(match n {
-        3 => CASE_B_HALPHA_HBETA,
-        4 => 1.0,
-        5 => 0.468,
-        6 => 0.259,
-        7 => 0.159,
-        8 => 0.105,
-        9 => 0.0731,
-        10 => 0.0530,
-        n if n > 10 => 0.0530 * (10.0 / n as f64).powi(3),
-        _ => return None,
-    })
-}
-
 /// The Balmer upper level of a catalogue line name (`H-beta`, `H12`,
 /// `H-alpha broad`), if it is a Balmer line.
 fn balmer_level(name: &str) -> Option<u32> {
     let base = name.strip_suffix(" broad").unwrap_or(name);
-    match crate::physics::hydrogen::parse_member(base)? {
-        (crate::physics::hydrogen::Series::Balmer, n) => Some(n),
+    match hydrogen::parse_member(base)? {
+        (hydrogen::Series::Balmer, n) => Some(n),
         _ => None,
     }
 }
@@ -90,14 +70,14 @@ pub(crate) fn implausible_lines(
         let Some(n) = level(m).filter(|n| *n >= 8) else {
             continue;
         };
-        let Some(r_n) = case_b_balmer(n) else {
+        let Some(r_n) = hydrogen::case_b_balmer(n) else {
             continue;
         };
         let ruled_out = lines.iter().any(|low| {
             let Some(k) = level(low).filter(|k| (4..=7).contains(k)) else {
                 return false;
             };
-            let Some(r_k) = case_b_balmer(k) else {
+            let Some(r_k) = hydrogen::case_b_balmer(k) else {
                 return false;
             };
             low.group == m.group
@@ -701,26 +681,6 @@ mod tests {
         // 5007 needing to be a third of 4959: ratio 0.33 against ~3.
         let p = ratio_penalty(&lm(10.0, 1.0), &lm(30.0, 1.0), (2.8, 3.2)).unwrap();
         assert!(p > 50.0, "{p}");
-    }
-
-    #[test]
-    fn case_b_balmer_fluxes_follow_the_table_and_fall_with_level() {
-        // Osterbrock & Ferland (2006) table 4.2, from memory.
-        assert_eq!(case_b_balmer(4), Some(1.0));
-        assert_eq!(case_b_balmer(5), Some(0.468));
-        assert_eq!(case_b_balmer(10), Some(0.0530));
-        assert_eq!(case_b_balmer(2), None);
-        // The n^-3 extrapolation continues the table's own slope: H8 -> H10
-        // falls as (8/10)^3.1 in the table.
-        let slope = (0.105f64 / 0.0530).ln() / (10.0f64 / 8.0).ln();
-        assert!((slope - 3.0).abs() < 0.15, "{slope}");
-        let mut last = f64::INFINITY;
-        for n in 3..40 {
-            let r = case_b_balmer(n).unwrap();
-            assert!(r < last, "H{n}");
-            last = r;
-        }
-        assert!((case_b_balmer(20).unwrap() - 0.0530 / 8.0).abs() < 1e-12);
     }
 
     #[test]

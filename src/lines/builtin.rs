@@ -293,23 +293,11 @@ fn to_vacuum(w: f64, m: Medium) -> f64 {
 }
 
 /// Case B emission strength of a Balmer line relative to H-alpha, used as
-/// the typical strength; from the Osterbrock & Ferland (2006) Table 4.2
-/// ratios to H-beta at 10^4 K, n_e = 100 cm^-3 (H-alpha 2.86, H-gamma 0.468,
-/// H-delta 0.259, H-epsilon 0.159, H8 0.105, H9 0.0731, H10 0.0530; the last
-/// four from memory), floored at 0.1 because the whole series is strong in
-/// absorption in A stars and post-starburst galaxies.
+/// the typical strength ([`crate::physics::hydrogen::case_b_balmer`]),
+/// floored at 0.1 because the whole series is strong in absorption in A
+/// stars and post-starburst galaxies.
 fn balmer_strength(n_upper: u32) -> f64 {
-    let to_hbeta = match n_upper {
-        3 => 2.86,
-        4 => 1.0,
-        5 => 0.468,
-        6 => 0.259,
-        7 => 0.159,
-        8 => 0.105,
-        9 => 0.0731,
-        10 => 0.0530,
-        _ => 0.04,
-    };
+    let to_hbeta = crate::physics::hydrogen::case_b_balmer(n_upper).unwrap_or(0.0);
     (to_hbeta / 2.86_f64).max(0.1)
 }
 

@@ -456,6 +456,27 @@ pub fn greek_alias(series: Series, n_upper: u32) -> Option<String> {
         .then(|| format!("{}-{}", series.prefix(), GREEK[(k - 1) as usize]))
 }
 
+/// Case B flux of a Balmer line relative to H-beta, by upper level, at
+/// T = 10^4 K, n_e = 100 cm^-3 (Osterbrock & Ferland 2006, Astrophysics of
+/// Gaseous Nebulae, table 4.2: H-alpha 2.86, H-gamma 0.468, H-delta 0.259,
+/// H-epsilon 0.159, H8 0.105, H9 0.0731, H10 0.0530; from memory). Above
+/// n = 10 the fluxes are extrapolated from H10 as n^-3, the slope of H8-H10
+/// in that table (approximate). `None` below n = 3.
+pub fn case_b_balmer(n_upper: u32) -> Option<f64> {
+    Some(match n_upper {
+        3 => 2.86,
+        4 => 1.0,
+        5 => 0.468,
+        6 => 0.259,
+        7 => 0.159,
+        8 => 0.105,
+        9 => 0.0731,
+        10 => 0.0530,
+        n if n > 10 => 0.0530 * (10.0 / n as f64).powi(3),
+        _ => return None,
+    })
+}
+
 /// Parse a member name such as `H-alpha`, `Hbeta`, `Ly-gamma`, `Pa-beta`,
 /// `Br-gamma`, `H8`, `H-zeta`, `Pa10` into (series, n_upper).
 pub fn parse_member(name: &str) -> Option<(Series, u32)> {
@@ -490,6 +511,26 @@ pub fn parse_member(name: &str) -> Option<(Series, u32)> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn case_b_balmer_fluxes_follow_the_table_and_fall_with_level() {
+        // Osterbrock & Ferland (2006) table 4.2, from memory.
+        assert_eq!(case_b_balmer(4), Some(1.0));
+        assert_eq!(case_b_balmer(5), Some(0.468));
+        assert_eq!(case_b_balmer(10), Some(0.0530));
+        assert_eq!(case_b_balmer(2), None);
+        // The n^-3 extrapolation continues the table's own slope: H8 -> H10
+        // falls as (8/10)^3.1 in the table.
+        let slope = (0.105f64 / 0.0530).ln() / (10.0f64 / 8.0).ln();
+        assert!((slope - 3.0).abs() < 0.15, "{slope}");
+        let mut last = f64::INFINITY;
+        for n in 3..40 {
+            let r = case_b_balmer(n).unwrap();
+            assert!(r < last, "H{n}");
+            last = r;
+        }
+        assert!((case_b_balmer(20).unwrap() - 0.0530 / 8.0).abs() < 1e-12);
+    }
 
     #[test]
     fn hydrogen_ground_state_is_minus_13_6_ev_less_the_reduced_mass_part() {
