@@ -236,16 +236,18 @@ fn main() {
             && let Some(k) = an.candidates.first()
         {
             // Scores of the rank-1 answers, for tuning the weak-evidence
-            // threshold: kind, S/N, z right, class, score, lines S/N >= 4.
+            // threshold: kind, S/N, z right, class, score, lines S/N >= 4,
+            // z (also a fingerprint of the answers, to compare two builds).
             let z_right = (k.z - syn.truth.z).abs() <= 0.001 * (1.0 + syn.truth.z);
             println!(
-                "SCORE {} {:.1} {} {} {:.1} {}",
+                "SCORE {} {:.1} {} {} {:.1} {} {:.6}",
                 syn.truth.kind.label(),
                 c.spec.snr,
                 z_right,
                 k.class.as_str(),
                 k.score,
-                k.matched.iter().filter(|m| m.snr >= 4.0).count()
+                k.matched.iter().filter(|m| m.snr >= 4.0).count(),
+                k.z
             );
         }
         if std::env::var("ZSIFT_DETAIL")

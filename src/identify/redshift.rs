@@ -274,55 +274,92 @@ fn column_into(
 /// Solve the symmetric positive system `m a = b` (Cholesky); `None` if
 /// singular. With `want_var`, also the diagonal of the inverse (the
 /// variances), else an empty vector.
+#[cfg(test)]
 fn solve(m: &[f64], b: &[f64], n: usize, want_var: bool) -> Option<(Vec<f64>, Vec<f64>)> {
-    let mut l = vec![0.0; n * n];
-    for i in 0..n {
-        for j in 0..=i {
-            let mut s = m[i * n + j];
-            for k in 0..j {
-                s -= l[i * n + k] * l[j * n + k];
-            }
-            if i == j {
-                if s <= 1e-300 {
-                    return None;
-                }
-                l[i * n + i] = s.sqrt();
-            } else {
-                l[i * n + j] = s / l[j * n + j];
-            }
-        }
-    }
-    let fwd = |rhs: &[f64]| -> Vec<f64> {
-        let mut y = vec![0.0; n];
+    let mut sc = Solver::default();
+    let mut a = vec![0.0; n];
+    let mut var = vec![0.0; if want_var { n } else { 0 }];
+    sc.solve(m, b, n, &mut a, want_var.then_some(&mut var[..]))
+        .then_some((a, var))
+}
+
+/// Cholesky solver with its work buffers kept between calls (the joint fit
+/// solves hundreds of thousands of small systems per spectrum).
+#[derive(Debug, Default)]
+struct Solver {
+    l: Vec<f64>,
+    y: Vec<f64>,
+    e: Vec<f64>,
+    x: Vec<f64>,
+}
+
+impl Solver {
+    /// Solve the symmetric positive `n` x `n` system `m a = b` into `a`;
+    /// false if singular. With `var`, also the diagonal of the inverse.
+    fn solve(
+        &mut self,
+        m: &[f64],
+        b: &[f64],
+        n: usize,
+        a: &mut [f64],
+        var: Option<&mut [f64]>,
+    ) -> bool {
+        let l = &mut self.l;
+        l.clear();
+        l.resize(n * n, 0.0);
         for i in 0..n {
-            let mut s = rhs[i];
-            for k in 0..i {
-                s -= l[i * n + k] * y[k];
+            for j in 0..=i {
+                let mut s = m[i * n + j];
+                for k in 0..j {
+                    s -= l[i * n + k] * l[j * n + k];
+                }
+                if i == j {
+                    if s <= 1e-300 {
+                        return false;
+                    }
+                    l[i * n + i] = s.sqrt();
+                } else {
+                    l[i * n + j] = s / l[j * n + j];
+                }
             }
-            y[i] = s / l[i * n + i];
         }
-        let mut x = vec![0.0; n];
-        for i in (0..n).rev() {
-            let mut s = y[i];
-            for k in i + 1..n {
-                s -= l[k * n + i] * x[k];
+        let l = &self.l;
+        let y = &mut self.y;
+        y.clear();
+        y.resize(n, 0.0);
+        let fwd = |rhs: &[f64], y: &mut [f64], x: &mut [f64]| {
+            for i in 0..n {
+                let mut s = rhs[i];
+                for k in 0..i {
+                    s -= l[i * n + k] * y[k];
+                }
+                y[i] = s / l[i * n + i];
             }
-            x[i] = s / l[i * n + i];
+            for i in (0..n).rev() {
+                let mut s = y[i];
+                for k in i + 1..n {
+                    s -= l[k * n + i] * x[k];
+                }
+                x[i] = s / l[i * n + i];
+            }
+        };
+        a[..n].fill(0.0);
+        fwd(b, y, a);
+        if let Some(var) = var {
+            // Diagonal of the inverse (variances).
+            self.x.clear();
+            self.x.resize(n, 0.0);
+            for i in 0..n {
+                self.e.clear();
+                self.e.resize(n, 0.0);
+                self.e[i] = 1.0;
+                self.x.fill(0.0);
+                fwd(&self.e, y, &mut self.x);
+                var[i] = self.x[i];
+            }
         }
-        x
-    };
-    let a = fwd(b);
-    if !want_var {
-        return Some((a, Vec::new()));
+        true
     }
-    // Diagonal of the inverse (variances).
-    let mut var = vec![0.0; n];
-    for (i, v) in var.iter_mut().enumerate() {
-        let mut e = vec![0.0; n];
-        e[i] = 1.0;
-        *v = fwd(&e)[i];
-    }
-    Some((a, var))
 }
 
 /// One evaluation of the linear part at fixed (s, widths).
@@ -335,14 +372,49 @@ struct Eval {
     dof: f64,
 }
 
+/// Column key of a line: its centre, its width and (bands) its edge width.
+type ColumnKey = (f64, f64, f64);
+
 /// Profile columns of a fit's lines, kept between evaluations: a line's
 /// column is recomputed only when its centre or a width it depends on
-/// changed (the width search varies one group at a time).
+/// changed (the width search varies one group at a time). Also the last
+/// solution of the cluster that starts at each line: a cluster whose lines
+/// all have the same columns as before has the same solution, so a width
+/// trial of one group solves again only the clusters that hold that
+/// group's lines.
 struct Columns {
-    keys: Vec<Option<(f64, f64, f64)>>,
+    keys: Vec<Option<ColumnKey>>,
     cols: Vec<(usize, Vec<f64>)>,
     /// Good pixels (ivar > 0) under each column.
     npix: Vec<usize>,
+    solved: Vec<Solved>,
+    work: ClusterWork,
+}
+
+/// A solved cluster: what it was solved for (`want_var`, then each line's
+/// index and column key as bits), its gain and its lines' amplitudes and
+/// variances. An empty key is an empty slot.
+#[derive(Debug, Clone, Default)]
+struct Solved {
+    key: Vec<u64>,
+    gain: f64,
+    amp: Vec<f64>,
+    var: Vec<f64>,
+}
+
+/// Work buffers of [`solve_cluster`].
+#[derive(Debug, Default)]
+struct ClusterWork {
+    full_b: Vec<f64>,
+    full_m: Vec<f64>,
+    active: Vec<bool>,
+    pos: Vec<usize>,
+    idx: Vec<usize>,
+    m: Vec<f64>,
+    b: Vec<f64>,
+    a: Vec<f64>,
+    v: Vec<f64>,
+    solver: Solver,
 }
 
 impl Columns {
@@ -351,6 +423,8 @@ impl Columns {
             keys: vec![None; n],
             cols: vec![(0, Vec::new()); n],
             npix: vec![0; n],
+            solved: vec![Solved::default(); n],
+            work: ClusterWork::default(),
         }
     }
 
@@ -389,13 +463,18 @@ fn evaluate(
     let n = lines.len();
     let mut cache = cache.borrow_mut();
     cache.update(native, lines, s, widths);
-    let cols = &cache.cols;
+    let Columns {
+        keys,
+        cols,
+        npix,
+        solved,
+        work,
+    } = &mut *cache;
     let base = if broad {
         &native.cont_broad
     } else {
         &native.cont_narrow
     };
-    let npix = &cache.npix;
     let mut amp = vec![0.0; n];
     let mut var = vec![0.0; n];
     let mut gain = 0.0;
@@ -408,6 +487,7 @@ fn evaluate(
     let mut order: Vec<usize> = (0..n).filter(|&i| !cols[i].1.is_empty()).collect();
     order.sort_by_key(|&i| (cols[i].0, i));
     let mut start = 0;
+    let mut key: Vec<u64> = Vec::new();
     while start < order.len() {
         let mut end = start + 1;
         let mut reach = cols[order[start]].0 + cols[order[start]].1.len();
@@ -417,9 +497,31 @@ fn evaluate(
         }
         let first = cols[order[start]].0;
         let cluster = &order[start..end];
-        gain += solve_cluster(
-            native, lines, cols, base, npix, cluster, &mut amp, &mut var, want_var,
-        );
+        key.clear();
+        key.push(want_var as u64);
+        for &i in cluster {
+            let (x, w, e) = keys[i].unwrap_or_default();
+            key.extend([i as u64, x.to_bits(), w.to_bits(), e.to_bits()]);
+        }
+        let slot = &mut solved[cluster[0]];
+        if slot.key == key {
+            for (p, &i) in cluster.iter().enumerate() {
+                amp[i] = slot.amp[p];
+                var[i] = slot.var[p];
+            }
+            gain += slot.gain;
+        } else {
+            let g = solve_cluster(
+                native, lines, cols, base, npix, cluster, &mut amp, &mut var, want_var, work,
+            );
+            gain += g;
+            slot.key.clone_from(&key);
+            slot.gain = g;
+            slot.amp.clear();
+            slot.amp.extend(cluster.iter().map(|&i| amp[i]));
+            slot.var.clear();
+            slot.var.extend(cluster.iter().map(|&i| var[i]));
+        }
         // Chi-square of the cluster's pixels under the fitted model (only
         // the final evaluation of a fit needs it, for the error scale).
         if !want_var {
@@ -473,12 +575,27 @@ fn solve_cluster(
     amp: &mut [f64],
     var: &mut [f64],
     want_var: bool,
+    work: &mut ClusterWork,
 ) -> f64 {
     let nc = cluster.len();
+    let ClusterWork {
+        full_b,
+        full_m,
+        active,
+        pos,
+        idx,
+        m,
+        b,
+        a,
+        v,
+        solver,
+    } = work;
     // Normal matrix and right-hand side of the whole cluster, built once;
     // each refit after a drop takes the rows of the lines still active.
-    let mut full_b = vec![0.0; nc];
-    let mut full_m = vec![0.0; nc * nc];
+    full_b.clear();
+    full_b.resize(nc, 0.0);
+    full_m.clear();
+    full_m.resize(nc * nc, 0.0);
     for (p, &i) in cluster.iter().enumerate() {
         let (ai, vi) = &cols[i];
         for (t, g) in vi.iter().enumerate() {
@@ -500,16 +617,21 @@ fn solve_cluster(
             full_m[q * nc + p] = sum;
         }
     }
-    let mut active: Vec<bool> = cluster.iter().map(|&i| npix[i] >= 2).collect();
+    active.clear();
+    active.extend(cluster.iter().map(|&i| npix[i] >= 2));
     for _ in 0..=nc {
-        let pos: Vec<usize> = (0..nc).filter(|&p| active[p]).collect();
-        let idx: Vec<usize> = pos.iter().map(|&p| cluster[p]).collect();
+        pos.clear();
+        pos.extend((0..nc).filter(|&p| active[p]));
+        idx.clear();
+        idx.extend(pos.iter().map(|&p| cluster[p]));
         let k = idx.len();
         if k == 0 {
             return 0.0;
         }
-        let mut m = vec![0.0; k * k];
-        let b: Vec<f64> = pos.iter().map(|&p| full_b[p]).collect();
+        m.clear();
+        m.resize(k * k, 0.0);
+        b.clear();
+        b.extend(pos.iter().map(|&p| full_b[p]));
         for (r, &p) in pos.iter().enumerate() {
             for (c, &q) in pos.iter().enumerate() {
                 m[r * k + c] = full_m[p * nc + q];
@@ -520,14 +642,16 @@ fn solve_cluster(
             m[p * k + p] *= 1.0 + 1e-9;
             m[p * k + p] += 1e-300;
         }
-        let Some((a, v)) = solve(&m, &b, k, false) else {
+        a.clear();
+        a.resize(k, 0.0);
+        if !solver.solve(m, b, k, a, None) {
             // Drop the weakest-determined line and retry.
             if let Some(pos) = cluster.iter().rposition(|i| Some(i) == idx.last()) {
                 active[pos] = false;
                 continue;
             }
             return 0.0;
-        };
+        }
         let mut bad = None;
         let mut worst = 0.0;
         for (p, &i) in idx.iter().enumerate() {
@@ -550,11 +674,14 @@ fn solve_cluster(
             }
             continue;
         }
-        let v = if want_var {
-            solve(&m, &b, k, true).map(|x| x.1).unwrap_or_default()
-        } else {
-            v
-        };
+        v.clear();
+        if want_var {
+            v.resize(k, 0.0);
+            let mut again = vec![0.0; k];
+            if !solver.solve(m, b, k, &mut again, Some(&mut v[..])) {
+                v.clear();
+            }
+        }
         let mut gain = 0.0;
         for (p, &i) in idx.iter().enumerate() {
             amp[i] = a[p];
@@ -746,6 +873,26 @@ fn measure_offsets(native: &Native, fit: &mut JointFit) {
     } else {
         &native.cont_narrow
     };
+    // The residual under the whole fitted model, built once; each line's
+    // own profile is added back when that line is measured, so the cost is
+    // one pass per trial shift rather than one per line per pixel.
+    let mut resid: Vec<f64> = native
+        .flux
+        .iter()
+        .zip(base.iter())
+        .map(|(f, b)| f - b)
+        .collect();
+    let mut own: Vec<(usize, Vec<f64>)> = Vec::with_capacity(fit.lines.len());
+    for (j, l) in fit.lines.iter().enumerate() {
+        let (a, v) = column(native, l.ln_rest + fit.s, l.group, &fit.widths);
+        if fit.amp[j] != 0.0 {
+            for (t, g) in v.iter().enumerate() {
+                resid[a + t] -= fit.amp[j] * g;
+            }
+        }
+        own.push((a, v));
+    }
+    let mut trial = Vec::new();
     for i in 0..fit.lines.len() {
         if fit.amp_err[i] <= 0.0 || (fit.amp[i] / fit.amp_err[i]).abs() < 3.0 {
             continue;
@@ -757,26 +904,22 @@ fn measure_offsets(native: &Native, fit: &mut JointFit) {
             fit.widths[group as usize]
         };
         let x0 = fit.lines[i].ln_rest + fit.s;
-        let gain_at = |dx: f64| -> f64 {
-            let (a, v) = column(native, x0 + dx, group, &fit.widths);
+        let (oa, ov) = &own[i];
+        let amp_i = fit.amp[i];
+        let mut gain_at = |dx: f64| -> f64 {
+            let a = column_into(native, x0 + dx, group, &fit.widths, &mut trial);
             let mut num = 0.0;
             let mut den = 0.0;
-            for (t, g) in v.iter().enumerate() {
+            for (t, g) in trial.iter().enumerate() {
                 let px = a + t;
                 let w = native.ivar[px];
                 if w <= 0.0 {
                     continue;
                 }
                 // Residual without the other lines near this one.
-                let mut y = native.flux[px] - base[px];
-                for (j, l) in fit.lines.iter().enumerate() {
-                    if j != i && fit.amp[j] != 0.0 {
-                        let u = native.lnw[px] - (l.ln_rest + fit.s);
-                        let (below, above) = extent(l.group, &fit.widths);
-                        if u > -below && u < above {
-                            y -= fit.amp[j] * profile(l.group, u, &fit.widths);
-                        }
-                    }
+                let mut y = resid[px];
+                if px >= *oa && px < oa + ov.len() {
+                    y += amp_i * ov[px - oa];
                 }
                 num += w * y * g;
                 den += w * g * g;
