@@ -428,14 +428,28 @@ pub fn fit_gaussians(
             is_centre[i] = true;
         }
     }
+    let limits = |i: usize| -> Option<(f64, f64)> {
+        if is_sigma[i] {
+            Some((smin, smax))
+        } else if is_centre[i] {
+            Some((xmin - x0 - 0.5 * span, xmax - x0 + 0.5 * span))
+        } else {
+            None
+        }
+    };
     let bound = |p: &mut [f64]| {
         for i in 0..p.len() {
-            if is_sigma[i] {
-                p[i] = p[i].clamp(smin, smax);
-            } else if is_centre[i] {
-                p[i] = p[i].clamp(xmin - x0 - 0.5 * span, xmax - x0 + 0.5 * span);
+            if let Some((lo, hi)) = limits(i) {
+                p[i] = p[i].clamp(lo, hi);
             }
         }
+    };
+    // A parameter at a bound that the descent direction (the gradient
+    // J^T W r) pushes further out is held there for the step: the clamped
+    // full step would otherwise point the rest off course, and the fit
+    // would creep along the bound for dozens of iterations.
+    let pinned = |p: &[f64], g: &[f64], i: usize| -> bool {
+        limits(i).is_some_and(|(lo, hi)| (p[i] <= lo && g[i] < 0.0) || (p[i] >= hi && g[i] > 0.0))
     };
     // Typical parameter scales for finite differences of the tie mapping.
     let mut scale = vec![1.0; m];
@@ -477,6 +491,16 @@ pub fn fit_gaussians(
                 a_damped[r * m + r] = d * (1.0 + lambda) + 1e-300;
             }
             step.copy_from_slice(&ws.g);
+            for i in 0..m {
+                if pinned(&p, &ws.g, i) {
+                    for c in 0..m {
+                        a_damped[i * m + c] = 0.0;
+                        a_damped[c * m + i] = 0.0;
+                    }
+                    a_damped[i * m + i] = 1.0;
+                    step[i] = 0.0;
+                }
+            }
             if !cholesky_solve(&mut a_damped, &mut step, m) {
                 lambda *= 10.0;
                 continue;
