@@ -626,6 +626,9 @@ fn solve_cluster(
         idx.extend(pos.iter().map(|&p| cluster[p]));
         let k = idx.len();
         if k == 0 {
+            if want_var {
+                dropped_variances(lines, cluster, npix, full_m, active, var);
+            }
             return 0.0;
         }
         m.clear();
@@ -688,9 +691,36 @@ fn solve_cluster(
             var[i] = v.get(p).copied().unwrap_or(0.0);
             gain += a[p] * b[p];
         }
+        if want_var {
+            dropped_variances(lines, cluster, npix, full_m, active, var);
+        }
         return gain;
     }
     0.0
+}
+
+/// A broad line dropped for the wrong sign is measured as zero, with the
+/// variance it would have alone (the inverse of its normal-matrix
+/// diagonal): an absent broad line with an error bar is evidence (broad
+/// H-alpha missing beside a bright "broad H-beta"), where no error would
+/// leave it unmeasured. Narrow lines keep no error when dropped: a galaxy's
+/// Balmer emission often sits in deeper stellar absorption, and a net dip
+/// there does not say the emission line is absent.
+fn dropped_variances(
+    lines: &[FitLine],
+    cluster: &[usize],
+    npix: &[usize],
+    full_m: &[f64],
+    active: &[bool],
+    var: &mut [f64],
+) {
+    let nc = cluster.len();
+    for (p, &i) in cluster.iter().enumerate() {
+        let d = full_m[p * nc + p];
+        if !active[p] && npix[i] >= 2 && d > 0.0 && lines[i].group == Group::EmBroad {
+            var[i] = 1.0 / d;
+        }
+    }
 }
 
 /// Parabolic vertex of three equally spaced samples (offset in steps).
