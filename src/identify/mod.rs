@@ -802,7 +802,7 @@ fn nothing_found() -> Candidate {
 }
 
 /// How many seeds of each hypothesis (galaxy, quasar, star) are refined.
-const SEEDS_KEPT: (usize, usize, usize) = (4, 3, 1);
+const SEEDS_KEPT: (usize, usize, usize) = (4, 4, 1);
 
 /// The share of a stellar-looking galaxy fit's score that the star fit at
 /// the same place must reach to replace it.
