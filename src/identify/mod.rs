@@ -353,7 +353,18 @@ impl Identifier {
         forest_edge: Option<f64>,
     ) -> Option<Scored> {
         let (lines, sigma) = self.setup(prep, h, s0);
-        let fit = redshift::joint_fit(&prep.native, lines.clone(), s0, reach, sigma)?;
+        // A quasar's light blueward of its Lyman-alpha passes through the
+        // forest: there the pixels scatter far beyond their noise, and the
+        // absorbed blue wing of Lyman-alpha would pull z to the red.
+        let weighted;
+        let native = match h {
+            Hypothesis::Qso => {
+                weighted = redshift::forest_weighted(&prep.native, s0);
+                weighted.as_ref().unwrap_or(&prep.native)
+            }
+            _ => &prep.native,
+        };
+        let fit = redshift::joint_fit(native, lines.clone(), s0, reach, sigma)?;
         let sc = score::score(&self.catalogue, h, &prep.native, &fit, forest_edge);
         // Lines the physics rules out (high-order Balmer lines far stronger
         // than the low ones, a doublet member far stronger than its
@@ -371,7 +382,7 @@ impl Identifier {
             .into_iter()
             .filter(|l| !bad.iter().any(|&i| fit.lines[i].line == l.line))
             .collect();
-        let fit = redshift::joint_fit(&prep.native, kept, s0, reach, sigma)?;
+        let fit = redshift::joint_fit(native, kept, s0, reach, sigma)?;
         let mut sc = score::score(&self.catalogue, h, &prep.native, &fit, forest_edge);
         sc.notes.push(format!(
             "{} dropped: stronger than atomic physics allows",

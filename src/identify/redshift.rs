@@ -976,6 +976,30 @@ fn measure_offsets(native: &Native, fit: &mut JointFit) {
     }
 }
 
+/// Transmitted-flux scatter of the Lyman-alpha forest as a fraction of the
+/// continuum (about 0.3 at z ~ 3; from memory, common practice).
+const FOREST_SCATTER: f64 = 0.3;
+
+/// A copy of `native` for a quasar at ln(1+z) = `s` with the forest's
+/// scatter added to the noise of the pixels blueward of Lyman-alpha (less
+/// the 1,500 km/s proximity zone), or `None` when no pixel is there.
+pub(crate) fn forest_weighted<'a>(native: &Native<'a>, s: f64) -> Option<Native<'a>> {
+    let edge = 1215.67f64.ln() + s - 1500.0 / C_KM_S;
+    let k = native.lnw.partition_point(|&x| x < edge);
+    if k == 0 {
+        return None;
+    }
+    let mut out = native.clone();
+    for i in 0..k {
+        let w = out.ivar[i];
+        if w > 0.0 {
+            let f = FOREST_SCATTER * out.cont_broad[i];
+            out.ivar[i] = 1.0 / (1.0 / w + f * f);
+        }
+    }
+    Some(out)
+}
+
 /// Default initial widths (sigma, km/s), adjusted by the grid's best
 /// narrow-kernel width at the strongest narrow line.
 pub(crate) fn initial_sigma(narrow_fwhm_kms: Option<f64>) -> [f64; GROUPS] {
