@@ -22,6 +22,10 @@ pub(crate) const BROAD_FWHM_KMS: [f64; 3] = [2500.0, 5000.0, 9000.0];
 const NARROW_WINDOW_KMS: f64 = 6000.0;
 /// Continuum window for broad lines, km/s (broad lines need 10,000+ km/s).
 const BROAD_WINDOW_KMS: f64 = 45_000.0;
+/// Continuum window for stellar absorption, km/s: hot stars' Balmer lines
+/// (FWHM up to a few thousand km/s, wider wings) would be followed by the
+/// narrow window.
+const STAR_WINDOW_KMS: f64 = 15_000.0;
 /// Smallest and largest grid steps in ln(lambda).
 const STEP_MIN: f64 = 0.7e-4;
 const STEP_MAX: f64 = 3.5e-4;
@@ -60,6 +64,8 @@ pub(crate) struct LogGrid {
     pub cont_narrow: Vec<f64>,
     /// Continuum that keeps broad lines out.
     pub cont_broad: Vec<f64>,
+    /// Continuum for stellar absorption lines.
+    pub cont_star: Vec<f64>,
     /// Matched-filter maps.
     pub maps: Maps,
 }
@@ -242,6 +248,7 @@ pub(crate) fn resample(wave: &[f64], flux: &[f64], ivar: &[f64]) -> Option<LogGr
         ivar: info,
         cont_narrow: Vec::new(),
         cont_broad: Vec::new(),
+        cont_star: Vec::new(),
         maps: Maps::default(),
     })
 }
@@ -372,6 +379,11 @@ fn matched_filter_direct(wr: &[f64], w: &[f64], sigma_px: f64, out: &mut [f64]) 
     }
 }
 
+/// The stellar continuum's window in pixels for a grid step of `vstep` km/s.
+pub(crate) fn star_window(vstep: f64) -> usize {
+    (STAR_WINDOW_KMS / vstep).round() as usize
+}
+
 /// Telluric bands of the catalogue as ln(lambda) ranges, widened by `pad`
 /// (fraction of lambda).
 pub(crate) fn telluric_bands(catalogue: &Catalogue, pad: f64) -> Vec<(f64, f64)> {
@@ -405,6 +417,7 @@ pub(crate) fn build_maps(grid: &mut LogGrid, bands: &[(f64, f64)]) {
         })
         .collect();
     grid.cont_broad = running_continuum(&clean, &grid.ivar, win_b);
+    grid.cont_star = running_continuum(&grid.flux, &grid.ivar, star_window(vstep));
 
     let w = &grid.ivar;
     let wr_n: Vec<f64> = (0..n)

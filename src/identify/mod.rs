@@ -308,12 +308,14 @@ impl Identifier {
                 })
                 .collect();
             g.cont_broad = grid::running_continuum(&clean, &g.ivar, (45_000.0 / v) as usize);
+            g.cont_star = grid::running_continuum(&g.flux, &g.ivar, grid::star_window(v));
         }
         let lnw: Vec<f64> = spectrum.wave.iter().map(|w| w.ln()).collect();
         let at =
             |a: &[f64], x: f64| LogGrid::sample(a, g.index_of(x).clamp(0.0, (g.len() - 1) as f64));
         let cont_narrow = lnw.iter().map(|&x| at(&g.cont_narrow, x)).collect();
         let cont_broad = lnw.iter().map(|&x| at(&g.cont_broad, x)).collect();
+        let cont_star = lnw.iter().map(|&x| at(&g.cont_star, x)).collect();
         Some(Prepared {
             native: Native {
                 lnw,
@@ -321,6 +323,7 @@ impl Identifier {
                 ivar,
                 cont_narrow,
                 cont_broad,
+                cont_star,
                 telluric,
             },
             grid: g,
@@ -364,7 +367,7 @@ impl Identifier {
             }
             _ => &prep.native,
         };
-        let fit = redshift::joint_fit(native, lines.clone(), s0, reach, sigma)?;
+        let fit = self.star_or_hot(native, h, lines.clone(), s0, reach, sigma)?;
         let sc = score::score(&self.catalogue, h, &prep.native, &fit, forest_edge);
         // Lines the physics rules out (high-order Balmer lines far stronger
         // than the low ones, a doublet member far stronger than its
@@ -382,13 +385,48 @@ impl Identifier {
             .into_iter()
             .filter(|l| !bad.iter().any(|&i| fit.lines[i].line == l.line))
             .collect();
-        let fit = redshift::joint_fit(native, kept, s0, reach, sigma)?;
+        let fit = self.star_or_hot(native, h, kept, s0, reach, sigma)?;
         let mut sc = score::score(&self.catalogue, h, &prep.native, &fit, forest_edge);
         sc.notes.push(format!(
             "{} dropped: stronger than atomic physics allows",
             names.join(", ")
         ));
         Some(sc)
+    }
+
+    /// The joint fit of a seed. A star is fitted twice: against the narrow
+    /// continuum, and without molecular bands against the stellar one that
+    /// a hot star's broad Balmer lines need (the narrow one follows them);
+    /// the second is kept when its hydrogen lines come out that broad and
+    /// carry most of its evidence.
+    fn star_or_hot(
+        &self,
+        native: &Native,
+        h: Hypothesis,
+        lines: Vec<redshift::FitLine>,
+        s0: f64,
+        reach: f64,
+        sigma: [f64; redshift::GROUPS],
+    ) -> Option<redshift::JointFit> {
+        let cool = redshift::joint_fit(native, lines.clone(), s0, reach, sigma, false);
+        if h != Hypothesis::Star {
+            return cool;
+        }
+        // Hot stars have no molecular bands.
+        let no_bands: Vec<redshift::FitLine> = lines
+            .into_iter()
+            .filter(|l| l.group != redshift::Group::Band)
+            .collect();
+        let hot = redshift::joint_fit(native, no_bands, s0, reach, sigma, true);
+        match hot {
+            Some(f)
+                if f.hydrogen_fwhm_kms() >= HOT_STAR_FWHM_KMS
+                    && f.hydrogen_share() >= HOT_STAR_HYDROGEN_SHARE =>
+            {
+                Some(f)
+            }
+            _ => cool,
+        }
     }
 
     /// The lines of hypothesis `h` at ln(1+z) = `s0` and the starting widths.
@@ -621,6 +659,11 @@ impl Identifier {
         for sc in scored {
             let z = sc.s.exp() - 1.0;
             let v = velocity_of(z);
+            // A star fit that wandered beyond the stellar velocities fits
+            // something else (a galaxy's continuum structure).
+            if sc.hypothesis == Hypothesis::Star && v.abs() > STAR_V_SLACK * v_star {
+                continue;
+            }
             let cl = classify::classify(&self.catalogue, &sc, v, v_star);
             let tol = 0.002 * (1.0 + z);
             if kept
@@ -821,6 +864,19 @@ const STAR_REFIT_SHARE: f64 = 0.7;
 
 /// Evidence needed before a class is claimed.
 const MIN_SCORE: f64 = 30.0;
+
+/// Hydrogen-line FWHM (km/s) from which a star is fitted as a hot star
+/// (against the stellar continuum): pressure-broadened Balmer lines of A and
+/// B stars are thousands of km/s wide, a cool star's a few hundred (common
+/// practice, no source).
+const HOT_STAR_FWHM_KMS: f64 = 1000.0;
+
+/// Share of a star fit's line S/N^2 in its hydrogen lines from which it is
+/// a hot star: the Balmer lines dominate an A or B star's spectrum.
+const HOT_STAR_HYDROGEN_SHARE: f64 = 0.5;
+
+/// Star fits are kept up to this multiple of the stellar velocity limit.
+const STAR_V_SLACK: f64 = 1.2;
 
 /// Score from which a candidate without two lines of S/N 4 (or one of S/N
 /// 6) still claims a class: shallow lines that together carry that much

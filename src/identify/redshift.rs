@@ -33,8 +33,33 @@ pub(crate) struct Native<'a> {
     pub cont_narrow: Vec<f64>,
     /// Continuum for broad lines.
     pub cont_broad: Vec<f64>,
+    /// Continuum for stellar absorption (a window wide enough for hot
+    /// stars' Balmer lines).
+    pub cont_star: Vec<f64>,
     /// Telluric bands, ln(lambda): absorption lines there are not measured.
     pub telluric: Vec<(f64, f64)>,
+}
+
+/// Which continuum a joint fit is measured against.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Base {
+    /// Follows everything but narrow features.
+    Narrow,
+    /// Keeps broad quasar lines out.
+    Broad,
+    /// Keeps stellar absorption lines out.
+    Star,
+}
+
+impl Native<'_> {
+    /// The continuum of `base`.
+    pub(crate) fn base(&self, base: Base) -> &[f64] {
+        match base {
+            Base::Narrow => &self.cont_narrow,
+            Base::Broad => &self.cont_broad,
+            Base::Star => &self.cont_star,
+        }
+    }
 }
 
 /// Width groups sharing one velocity width in a joint fit.
@@ -169,8 +194,8 @@ pub(crate) struct JointFit {
     pub npix: Vec<usize>,
     /// Total chi-square improvement over the continuum alone.
     pub gain: f64,
-    /// Which continuum the fit used (true = broad).
-    pub broad_base: bool,
+    /// Which continuum the fit used.
+    pub base: Base,
 }
 
 /// Default Gaussian sigma per group, km/s.
@@ -456,7 +481,7 @@ fn evaluate(
     lines: &[FitLine],
     s: f64,
     widths: &[f64; GROUPS],
-    broad: bool,
+    base: Base,
     want_var: bool,
     cache: &std::cell::RefCell<Columns>,
 ) -> Eval {
@@ -470,11 +495,7 @@ fn evaluate(
         solved,
         work,
     } = &mut *cache;
-    let base = if broad {
-        &native.cont_broad
-    } else {
-        &native.cont_narrow
-    };
+    let base = native.base(base);
     let mut amp = vec![0.0; n];
     let mut var = vec![0.0; n];
     let mut gain = 0.0;
@@ -744,10 +765,17 @@ fn start_widths(sigma_kms: [f64; GROUPS]) -> [f64; GROUPS] {
     widths
 }
 
-/// Whether a fit of `lines` is measured against the broad continuum (it
-/// has broad lines, which the narrow continuum would follow).
-fn uses_broad_base(lines: &[FitLine]) -> bool {
-    lines.iter().any(|l| l.group == Group::EmBroad)
+/// The continuum a fit of `lines` is measured against: the broad one when
+/// it has broad lines, which the narrow continuum would follow; with `hot`,
+/// the stellar one for stellar hydrogen lines; else the narrow one.
+fn base_for(lines: &[FitLine], hot: bool) -> Base {
+    if lines.iter().any(|l| l.group == Group::EmBroad) {
+        Base::Broad
+    } else if hot && lines.iter().any(|l| l.group == Group::AbHydrogen) {
+        Base::Star
+    } else {
+        Base::Narrow
+    }
 }
 
 /// The best chi-square gain of `lines` at ln(1+z) = `s` over the given sets
@@ -764,40 +792,34 @@ pub(crate) fn gain_at(
         return f64::NEG_INFINITY;
     }
     let cache = std::cell::RefCell::new(Columns::new(lines.len()));
-    let broad = uses_broad_base(lines);
+    let base = base_for(lines, false);
     sigma_sets
         .iter()
         .map(|sigma| {
-            let ev = evaluate(
-                native,
-                lines,
-                s,
-                &start_widths(*sigma),
-                broad,
-                false,
-                &cache,
-            );
+            let ev = evaluate(native, lines, s, &start_widths(*sigma), base, false, &cache);
             ev.gain - 2.0 * ev.amp.iter().filter(|a| **a != 0.0).count() as f64
         })
         .fold(f64::NEG_INFINITY, f64::max)
 }
 
-/// Joint fit of `lines` near ln(1+z) = `s0`, searching +- `reach` in s.
+/// Joint fit of `lines` near ln(1+z) = `s0`, searching +- `reach` in s;
+/// with `hot`, stellar hydrogen lines are measured against the stellar
+/// continuum (see [`Base::Star`]).
 pub(crate) fn joint_fit(
     native: &Native,
     lines: Vec<FitLine>,
     s0: f64,
     reach: f64,
     init_sigma_kms: [f64; GROUPS],
+    hot: bool,
 ) -> Option<JointFit> {
     if lines.is_empty() {
         return None;
     }
-    let broad = uses_broad_base(&lines);
+    let base = base_for(&lines, hot);
     let mut widths = start_widths(init_sigma_kms);
     let cache = std::cell::RefCell::new(Columns::new(lines.len()));
-    let g_at =
-        |s: f64, w: &[f64; GROUPS]| evaluate(native, &lines, s, w, broad, false, &cache).gain;
+    let g_at = |s: f64, w: &[f64; GROUPS]| evaluate(native, &lines, s, w, base, false, &cache).gain;
     // Coarse search in s.
     let mut s;
     let steps = 3;
@@ -855,7 +877,7 @@ pub(crate) fn joint_fit(
             }
         }
     }
-    let ev = evaluate(native, &lines, s, &widths, broad, true, &cache);
+    let ev = evaluate(native, &lines, s, &widths, base, true, &cache);
     // Curvature for the error: chi2(s) = chi2_min + C (s - s*)^2 / 2 with
     // C = -d2 gain / ds2; sigma_s = sqrt(2 / C) (Delta chi2 = 1).
     let sig_min = widths
@@ -888,21 +910,39 @@ pub(crate) fn joint_fit(
         offset_kms: vec![0.0; lines.len()],
         npix: ev.npix,
         gain: ev.gain,
-        broad_base: broad,
+        base,
         lines,
     };
     measure_offsets(native, &mut fit);
     Some(fit)
 }
 
+impl JointFit {
+    /// FWHM (km/s) of the stellar hydrogen group.
+    pub(crate) fn hydrogen_fwhm_kms(&self) -> f64 {
+        2.354_820_045 * self.widths[Group::AbHydrogen as usize] * C_KM_S
+    }
+
+    /// The share of the lines' summed S/N^2 in the stellar hydrogen group.
+    pub(crate) fn hydrogen_share(&self) -> f64 {
+        let (mut h, mut all) = (0.0, 0.0);
+        for (i, l) in self.lines.iter().enumerate() {
+            if self.amp_err[i] > 0.0 {
+                let p = (self.amp[i] / self.amp_err[i]).powi(2);
+                all += p;
+                if l.group == Group::AbHydrogen {
+                    h += p;
+                }
+            }
+        }
+        if all > 0.0 { h / all } else { 0.0 }
+    }
+}
+
 /// Per-line velocity offsets: each significant line alone, the others held
 /// at their fitted amplitudes, best shift by a parabola.
 fn measure_offsets(native: &Native, fit: &mut JointFit) {
-    let base = if fit.broad_base {
-        &native.cont_broad
-    } else {
-        &native.cont_narrow
-    };
+    let base = native.base(fit.base);
     // The residual under the whole fitted model, built once; each line's
     // own profile is added back when that line is measured, so the cost is
     // one pass per trial shift rather than one per line per pixel.

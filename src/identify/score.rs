@@ -19,7 +19,7 @@
 //! score is cut to 40% (a calibration ripple or a continuum break makes one
 //! broad bump easily, two at the right spacing rarely).
 
-use super::redshift::{Group, JointFit, Native, profile_area};
+use super::redshift::{Base, Group, JointFit, Native, profile_area};
 use super::xcorr::Hypothesis;
 use crate::lines::Catalogue;
 use crate::physics::constants::C_KM_S;
@@ -203,11 +203,7 @@ pub(crate) fn snr_power(lines: &[LineMeasure], keep: impl Fn(&LineMeasure) -> bo
 
 /// Measure each fitted line.
 pub(crate) fn measure(native: &Native, fit: &JointFit) -> Vec<LineMeasure> {
-    let base = if fit.broad_base {
-        &native.cont_broad
-    } else {
-        &native.cont_narrow
-    };
+    let base = native.base(fit.base);
     fit.lines
         .iter()
         .enumerate()
@@ -323,7 +319,7 @@ pub(crate) fn forest_depth(native: &Native, s: f64) -> Option<Forest> {
 /// (beyond 4 sigma) dips and of the significant bumps, or `None` without a
 /// broad group.
 pub(crate) fn broad_dips(native: &Native, fit: &JointFit) -> Option<(f64, f64)> {
-    if !fit.broad_base {
+    if fit.base != Base::Broad {
         return None;
     }
     let sig = fit.widths[Group::EmBroad as usize];
