@@ -330,20 +330,29 @@ impl Identifier {
         })
     }
 
-    /// The gain of a seed's lines at the seed itself with the starting
-    /// widths: a cheap first look, used to choose which seeds to refine.
-    fn first_look(&self, prep: &Prepared, h: Hypothesis, s0: f64) -> f64 {
+    /// A cheap first look at a seed, used to choose which seeds to refine:
+    /// the gain of its lines at the seed itself with the starting widths,
+    /// and the score of that fit.
+    fn first_look(&self, prep: &Prepared, h: Hypothesis, s0: f64) -> (f64, f64) {
         let (lines, sigma) = self.setup(prep, h, s0);
-        if h == Hypothesis::Star {
-            return redshift::gain_at(&prep.native, &lines, s0, &[sigma]);
-        }
         // The starting width comes from the best single kernel, which an
         // unresolved doublet (e.g. [O II] 3726, 3729) widens: look also at
         // narrower lines, so the doublet's own fit is not ranked below a
         // single line's.
         let mut narrower = sigma;
         narrower[redshift::Group::EmNarrow as usize] *= 0.55;
-        redshift::gain_at(&prep.native, &lines, s0, &[sigma, narrower])
+        let sets: &[[f64; redshift::GROUPS]] = if h == Hypothesis::Star {
+            &[sigma]
+        } else {
+            &[sigma, narrower]
+        };
+        match redshift::fit_at(&prep.native, &lines, s0, sets) {
+            Some((fit, gain)) => (
+                gain,
+                score::score(&self.catalogue, h, &prep.native, &fit, None).score,
+            ),
+            None => (f64::NEG_INFINITY, f64::NEG_INFINITY),
+        }
     }
 
     /// Refine a seed: choose the hypothesis's lines, fit them jointly, score.
@@ -581,12 +590,12 @@ impl Identifier {
         // Refine only the most promising seeds of each hypothesis, by a
         // first look at their gain (the joint fits are most of the cost).
         let seeds = {
-            let mut looked: Vec<(usize, f64)> = seeds
+            let mut looked: Vec<(usize, (f64, f64))> = seeds
                 .iter()
                 .enumerate()
                 .map(|(i, &(h, s, _))| (i, self.first_look(prep, h, s)))
                 .collect();
-            looked.sort_by(|a, b| b.1.total_cmp(&a.1));
+            looked.sort_by(|a, b| b.1.0.total_cmp(&a.1.0));
             let mut kept = vec![false; seeds.len()];
             for (h, k) in [
                 (Hypothesis::Galaxy, SEEDS_KEPT.0),
@@ -596,6 +605,17 @@ impl Identifier {
                 for &(i, _) in looked.iter().filter(|(i, _)| seeds[*i].0 == h).take(k) {
                     kept[i] = true;
                 }
+            }
+            // The gain ranks a quasar's aliases alike (one bright broad line
+            // is Mg II, H-beta or Lyman-alpha at different z); the best
+            // scored of the rest, whose partners are where they should be,
+            // is refined too.
+            if let Some(&(i, _)) = looked
+                .iter()
+                .filter(|(i, _)| seeds[*i].0 == Hypothesis::Qso && !kept[*i])
+                .max_by(|a, b| a.1.1.total_cmp(&b.1.1))
+            {
+                kept[i] = true;
             }
             seeds
                 .into_iter()

@@ -778,28 +778,45 @@ fn base_for(lines: &[FitLine], hot: bool) -> Base {
     }
 }
 
-/// The best chi-square gain of `lines` at ln(1+z) = `s` over the given sets
-/// of starting widths (km/s, clamped to the group limits), less 2 per free
-/// amplitude. The sets share one column cache, so a set that changes one
-/// group's width recomputes only that group's columns.
-pub(crate) fn gain_at(
+/// The fit of `lines` held at ln(1+z) = `s` with the best of the given
+/// starting width sets (no search): amplitudes, their errors and the gain,
+/// for scoring a seed before it is refined; with the best gain less 2 per
+/// free amplitude (the best chi-square gain over the sets, less 2 per free amplitude).
+pub(crate) fn fit_at(
     native: &Native,
     lines: &[FitLine],
     s: f64,
     sigma_sets: &[[f64; GROUPS]],
-) -> f64 {
+) -> Option<(JointFit, f64)> {
     if lines.is_empty() {
-        return f64::NEG_INFINITY;
+        return None;
     }
     let cache = std::cell::RefCell::new(Columns::new(lines.len()));
     let base = base_for(lines, false);
-    sigma_sets
-        .iter()
-        .map(|sigma| {
-            let ev = evaluate(native, lines, s, &start_widths(*sigma), base, false, &cache);
-            ev.gain - 2.0 * ev.amp.iter().filter(|a| **a != 0.0).count() as f64
-        })
-        .fold(f64::NEG_INFINITY, f64::max)
+    let mut best: Option<([f64; GROUPS], f64)> = None;
+    for sigma in sigma_sets {
+        let w = start_widths(*sigma);
+        let ev = evaluate(native, lines, s, &w, base, false, &cache);
+        let g = ev.gain - 2.0 * ev.amp.iter().filter(|a| **a != 0.0).count() as f64;
+        if best.is_none_or(|b| g > b.1) {
+            best = Some((w, g));
+        }
+    }
+    let (widths, look) = best?;
+    let ev = evaluate(native, lines, s, &widths, base, true, &cache);
+    let fit = JointFit {
+        s,
+        s_err: 0.0,
+        widths,
+        amp_err: ev.var.iter().map(|v| v.sqrt()).collect(),
+        amp: ev.amp,
+        offset_kms: vec![0.0; lines.len()],
+        npix: ev.npix,
+        gain: ev.gain,
+        base,
+        lines: lines.to_vec(),
+    };
+    Some((fit, look))
 }
 
 /// Joint fit of `lines` near ln(1+z) = `s0`, searching +- `reach` in s;
