@@ -1240,4 +1240,141 @@ mod tests {
         let f = |x: f64| -(x - 0.3f64).powi(2);
         assert!((vertex(f(-1.0), f(0.0), f(1.0)) - 0.3).abs() < 1e-12);
     }
+
+    #[test]
+    fn a_reused_solver_solves_each_system_afresh() {
+        // A 3x3 system after a 2x2 one: stale buffers would show. By hand:
+        // diag(2, 4, 5) x = (2, 8, 5) -> x = (1, 2, 1), inverse diagonal
+        // (1/2, 1/4, 1/5).
+        let mut sv = Solver::default();
+        let mut a = vec![0.0; 2];
+        assert!(sv.solve(&[4.0, 2.0, 2.0, 3.0], &[2.0, 1.0], 2, &mut a, None));
+        let mut a = vec![0.0; 3];
+        let mut v = vec![0.0; 3];
+        let m = [2.0, 0.0, 0.0, 0.0, 4.0, 0.0, 0.0, 0.0, 5.0];
+        assert!(sv.solve(&m, &[2.0, 8.0, 5.0], 3, &mut a, Some(&mut v)));
+        for (x, want) in a.iter().zip([1.0, 2.0, 1.0]) {
+            assert!((x - want).abs() < 1e-12, "{a:?}");
+        }
+        for (x, want) in v.iter().zip([0.5, 0.25, 0.2]) {
+            assert!((x - want).abs() < 1e-12, "{v:?}");
+        }
+        // Singular: refused.
+        assert!(!sv.solve(&[1.0, 1.0, 1.0, 1.0], &[1.0, 1.0], 2, &mut a, None));
+    }
+
+    /// A flat spectrum (10) with two Gaussian emission lines 30 A apart at
+    /// 5000 A, pixel 0.5 A: (wavelengths, flux).
+    fn two_lines() -> (Vec<f64>, Vec<f64>) {
+        let wave: Vec<f64> = (0..800).map(|i| 4800.0 + 0.5 * i as f64).collect();
+        let flux = wave
+            .iter()
+            .map(|w| {
+                10.0 + 8.0 * (-0.5 * ((w - 5000.0) / 2.0).powi(2)).exp()
+                    + 5.0 * (-0.5 * ((w - 5030.0) / 2.0).powi(2)).exp()
+            })
+            .collect();
+        (wave, flux)
+    }
+
+    /// Native pixels of `flux` at `wave`: unit noise, continuum 10.
+    fn native_of<'a>(wave: &[f64], flux: &'a [f64]) -> Native<'a> {
+        let n = wave.len();
+        Native {
+            lnw: wave.iter().map(|w| w.ln()).collect(),
+            flux,
+            ivar: vec![1.0; n],
+            cont_narrow: vec![10.0; n],
+            cont_broad: vec![10.0; n],
+            cont_star: vec![10.0; n],
+            telluric: Vec::new(),
+        }
+    }
+
+    fn line(ln_rest: f64, group: Group) -> FitLine {
+        FitLine {
+            line: 0,
+            ln_rest,
+            group,
+            sign: Sign::Positive,
+        }
+    }
+
+    #[test]
+    fn kept_cluster_solutions_equal_a_fresh_solve() {
+        let (wave, flux) = two_lines();
+        let native = native_of(&wave, &flux);
+        // One narrow-emission line and one narrow-absorption-group line
+        // (positive here), far apart: two clusters.
+        let lines = vec![
+            line(5000f64.ln(), Group::EmNarrow),
+            line(5030f64.ln(), Group::AbNarrow),
+        ];
+        let mut w = start_widths(DEFAULT_SIGMA_KMS);
+        w[Group::EmNarrow as usize] = 120.0 / C_KM_S;
+        w[Group::AbNarrow as usize] = 120.0 / C_KM_S;
+        let cache = std::cell::RefCell::new(Columns::new(lines.len()));
+        let first = evaluate(&native, &lines, 0.0, &w, Base::Narrow, true, &cache);
+        // Change one group's width: the other cluster comes from the cache.
+        let mut w2 = w;
+        w2[Group::AbNarrow as usize] *= 1.35;
+        let cached = evaluate(&native, &lines, 0.0, &w2, Base::Narrow, true, &cache);
+        let fresh_cache = std::cell::RefCell::new(Columns::new(lines.len()));
+        let fresh = evaluate(&native, &lines, 0.0, &w2, Base::Narrow, true, &fresh_cache);
+        assert_eq!(cached.amp, fresh.amp);
+        assert_eq!(cached.var, fresh.var);
+        assert_eq!(cached.gain, fresh.gain);
+        // The unchanged line kept its amplitude; the changed one moved.
+        assert_eq!(cached.amp[0], first.amp[0]);
+        assert_ne!(cached.amp[1], first.amp[1]);
+        // The amplitudes are the lines' peaks (8 and 5 above 10; the model
+        // widths of 120 km/s are near the true 2 A = 120 km/s).
+        assert!((first.amp[0] - 8.0).abs() < 0.2, "{:?}", first.amp);
+        assert!((first.amp[1] - 5.0).abs() < 0.2, "{:?}", first.amp);
+    }
+
+    #[test]
+    fn a_broad_line_of_the_wrong_sign_keeps_an_error() {
+        let (wave, mut flux) = two_lines();
+        // A broad emission line looked for where the flux dips (5150 A):
+        // fitted negative, dropped, yet measured.
+        for (f, w) in flux.iter_mut().zip(&wave) {
+            *f -= 2.0 * (-0.5 * ((w - 5150.0) / 20.0).powi(2)).exp();
+        }
+        let dipped = native_of(&wave, &flux);
+        let lines = vec![
+            line(5150f64.ln(), Group::EmBroad),
+            line(5000f64.ln(), Group::EmNarrow),
+        ];
+        let w = start_widths(DEFAULT_SIGMA_KMS);
+        let cache = std::cell::RefCell::new(Columns::new(lines.len()));
+        let ev = evaluate(&dipped, &lines, 0.0, &w, Base::Broad, true, &cache);
+        assert_eq!(ev.amp[0], 0.0);
+        assert!(ev.var[0] > 0.0, "{:?}", ev.var);
+        // A narrow line dropped for its sign keeps none.
+        let narrow = vec![line(5150f64.ln(), Group::EmNarrow)];
+        let cache = std::cell::RefCell::new(Columns::new(1));
+        let ev = evaluate(&dipped, &narrow, 0.0, &w, Base::Narrow, true, &cache);
+        assert_eq!((ev.amp[0], ev.var[0]), (0.0, 0.0));
+    }
+
+    #[test]
+    fn the_forest_adds_its_scatter_blueward_of_lyman_alpha_only() {
+        let (wave, flux) = two_lines();
+        let native = native_of(&wave, &flux);
+        // Lyman-alpha at 4900 A: s = ln(4900 / 1215.67).
+        let s = (4900.0f64 / 1215.67).ln();
+        let w = forest_weighted(&native, s).expect("pixels blueward of 4900 A");
+        let edge = 4900.0 * (-1500.0 / C_KM_S).exp();
+        for (i, x) in native.lnw.iter().enumerate() {
+            if x.exp() < edge - 0.01 {
+                // 1 / (1 + (0.3 * 10)^2) = 0.1
+                assert!((w.ivar[i] - 0.1).abs() < 1e-12, "{i}: {}", w.ivar[i]);
+            } else if x.exp() > edge + 0.01 {
+                assert_eq!(w.ivar[i], 1.0);
+            }
+        }
+        // No forest in range: no copy.
+        assert!(forest_weighted(&native, (4000.0f64 / 1215.67).ln()).is_none());
+    }
 }
