@@ -1359,6 +1359,31 @@ mod tests {
     }
 
     #[test]
+    fn the_hydrogen_share_is_the_hydrogen_lines_part_of_the_s_n_squared() {
+        let fit = JointFit {
+            s: 0.0,
+            s_err: 0.0,
+            widths: [1e-3; GROUPS],
+            lines: vec![
+                line(4861f64.ln(), Group::AbHydrogen),
+                line(5175f64.ln(), Group::AbNarrow),
+                line(4340f64.ln(), Group::AbHydrogen),
+            ],
+            // S/N 3, 4 and 0 (unmeasured: no error).
+            amp: vec![-3.0, -8.0, -1.0],
+            amp_err: vec![1.0, 2.0, 0.0],
+            offset_kms: vec![0.0; 3],
+            npix: vec![10; 3],
+            gain: 0.0,
+            base: Base::Star,
+        };
+        // 9 / (9 + 16)
+        assert!((fit.hydrogen_share() - 0.36).abs() < 1e-12);
+        // FWHM of sigma 1e-3 in ln lambda: 2.3548 * 299.79 km/s.
+        assert!((fit.hydrogen_fwhm_kms() - 2.354_820_045 * C_KM_S * 1e-3).abs() < 1e-9);
+    }
+
+    #[test]
     fn the_forest_adds_its_scatter_blueward_of_lyman_alpha_only() {
         let (wave, flux) = two_lines();
         let native = native_of(&wave, &flux);
