@@ -242,6 +242,13 @@ const SIGMA_LIMITS_KMS: [(f64, f64); GROUPS] = [
     (1500.0, 12000.0),
 ];
 
+/// Largest sigma (km/s) of a hot star's metal lines: rotation (v sin i up
+/// to ~400 km/s, a rotational profile's FWHM ~1.7 v sin i) and the
+/// instrument, far narrower than its Balmer lines (common practice, no
+/// source). Without it the metal group widened to take the Balmer lines'
+/// flux (Ca II H for H-epsilon, He I 3889 for H8) and moved the velocity.
+const HOT_METAL_SIGMA_MAX_KMS: f64 = 400.0;
+
 /// Choose the lines to fit for a hypothesis at ln(1+z) = `s`.
 pub(crate) fn lines_for(
     cat: &Catalogue,
@@ -867,6 +874,10 @@ pub(crate) fn joint_fit(
     }
     let base = base_for(&lines, hot);
     let mut widths = start_widths(init_sigma_kms);
+    if hot {
+        let g = Group::AbNarrow as usize;
+        widths[g] = widths[g].min(HOT_METAL_SIGMA_MAX_KMS / C_KM_S);
+    }
     let cache = std::cell::RefCell::new(Columns::new(lines.len()));
     let g_at = |s: f64, w: &[f64; GROUPS]| evaluate(native, &lines, s, w, base, false, &cache).gain;
     // Coarse search in s.
@@ -891,7 +902,10 @@ pub(crate) fn joint_fit(
             if !lines.iter().any(|l| l.group as usize == g) {
                 continue;
             }
-            let (lo, hi) = SIGMA_LIMITS_KMS[g];
+            let (lo, mut hi) = SIGMA_LIMITS_KMS[g];
+            if hot && g == Group::AbNarrow as usize {
+                hi = HOT_METAL_SIGMA_MAX_KMS;
+            }
             let w0 = widths[g];
             let mut bw = (here, w0);
             for f in [0.55, 0.75, 1.35, 1.8] {
