@@ -43,6 +43,13 @@ const CUTOFF_Z2: f64 = 80.0;
 /// Largest number of Gaussian components in one fit.
 pub const MAX_COMPONENTS: usize = 8;
 
+/// Creep stop of the Levenberg-Marquardt loop: after `CREEP_AFTER`
+/// iterations, `CREEP_STEPS` accepted steps in a row that each gain under
+/// `CREEP_GAIN` in chi-square end the fit (reported unconverged).
+const CREEP_AFTER: usize = 15;
+const CREEP_STEPS: usize = 5;
+const CREEP_GAIN: f64 = 0.05;
+
 /// A tie of one component to an earlier, untied ("root") component.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Tie {
@@ -475,6 +482,7 @@ pub fn fit_gaussians(
     }
     let mut lambda = 1e-3;
     let mut converged = false;
+    let mut creeping = 0usize;
     let mut iterations = 0;
     let mut trial = vec![0.0; m];
     let mut a_damped = vec![0.0; m * m];
@@ -517,13 +525,26 @@ pub fn fit_gaussians(
                 // the fit is within a few hundredths of an error of its
                 // minimum (tighter stops change nothing a person could see
                 // and cost a third of the detection time).
-                let small_gain = chi2 - c2 <= (1e-10 * chi2).max(1e-3);
+                let gain_of_step = chi2 - c2;
+                let small_gain = gain_of_step <= (1e-10 * chi2).max(1e-3);
                 p.copy_from_slice(&trial);
                 chi2 = ws.normal(&layout, &px, &p, &scale);
                 lambda = (lambda * 0.1).max(1e-12);
                 improved = true;
                 if small_step || small_gain {
                     converged = true;
+                    break 'outer;
+                }
+                // Creeping: steps that each gain under 0.05 for a run of
+                // CREEP_STEPS after many iterations are a degenerate
+                // component sliding along a valley (one drifting off into
+                // the continuum); the fit stops there, unconverged.
+                creeping = if gain_of_step < CREEP_GAIN {
+                    creeping + 1
+                } else {
+                    0
+                };
+                if iterations >= CREEP_AFTER && creeping >= CREEP_STEPS {
                     break 'outer;
                 }
                 break;
