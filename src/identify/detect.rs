@@ -416,7 +416,8 @@ pub fn find(
 /// `resolution_kms` is the instrumental FWHM in km/s. A sky line matches a
 /// feature no broader than 3 resolution elements whose centre lies within
 /// `max(0.75 FWHM_res, 3 x centre error)` of the line (or of a sky interval
-/// `[lo, hi]`); a telluric band matches an absorption feature whose centre
+/// `[lo, hi]`); a telluric band at least [`super::grid::TELLURIC_ABSORB_MIN`]
+/// strong matches an absorption feature whose centre
 /// lies inside `[lo, hi]` widened by half a resolution element. Features
 /// already flagged (e.g. spikes) are left alone.
 pub fn flag_foreground(features: &mut [Feature], catalogue: &Catalogue, resolution_kms: f64) {
@@ -449,6 +450,7 @@ pub fn flag_foreground(features: &mut [Feature], catalogue: &Catalogue, resoluti
                 ForegroundKind::Telluric => {
                     let half = 0.5 * res_a;
                     if f.kind == FeatureKind::Absorption
+                        && super::grid::is_absorbing_band(fg)
                         && f.wavelength >= fg.lo - half
                         && f.wavelength <= fg.hi + half
                     {

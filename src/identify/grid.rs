@@ -165,12 +165,15 @@ pub(crate) fn native_ivar(
             let j = wave.partition_point(|&w| w < lam).clamp(1, n - 1);
             2.5 * (wave[j] - wave[j - 1])
         };
-        // Telluric bands too: absorption there is the atmosphere's, and a
-        // band pulls any local continuum down so that its edges look like
-        // emission. Those pixels carry no information about the target.
+        // Saturated telluric band cores too: there the atmosphere leaves
+        // little of the target's light, and a sharp band head pulls any
+        // local continuum down so that its edge looks like emission. The
+        // rest of a band keeps its weight: an emission line there is dimmed,
+        // not erased ([O II] of a galaxy at z ~ 1.5 sits in the 9300 A water
+        // band), and absorption there is kept out of the fits and the maps
+        // instead (see [`telluric_bands`]).
         for f in catalogue.foreground.iter().filter(|f| {
-            (f.kind == ForegroundKind::Sky && f.strength >= 0.2)
-                || f.kind == ForegroundKind::Telluric
+            (f.kind == ForegroundKind::Sky && f.strength >= 0.2) || is_saturated_core(f)
         }) {
             let pad = if f.kind == ForegroundKind::Sky {
                 pad_of(f.lo).max(1.5)
@@ -384,13 +387,38 @@ pub(crate) fn star_window(vstep: f64) -> usize {
     (STAR_WINDOW_KMS / vstep).round() as usize
 }
 
+/// Telluric bands at least this strong (typical depth, 0..1) are kept out
+/// of absorption evidence; weaker ones (the 6500 A water band, a few per
+/// cent) would otherwise hide a star's H-alpha at a modest blueshift. A
+/// judgement, not a published figure.
+pub(crate) const TELLURIC_ABSORB_MIN: f64 = 0.15;
+
+/// A saturated band core gives its pixels no weight: at least this strong
+/// and at most [`SATURATED_CORE_MAX_A`] wide (the O2 A and B band heads; the
+/// broad water bands are never saturated across their whole width).
+const SATURATED_CORE_MIN: f64 = 0.5;
+
+/// Widest band treated as a saturated core, Angstrom.
+const SATURATED_CORE_MAX_A: f64 = 60.0;
+
+/// Whether `f` is a telluric band strong enough that absorption inside it
+/// is the atmosphere's.
+pub(crate) fn is_absorbing_band(f: &crate::lines::Foreground) -> bool {
+    f.kind == ForegroundKind::Telluric && f.strength >= TELLURIC_ABSORB_MIN
+}
+
+/// Whether `f` is a saturated telluric band core (no weight at all).
+fn is_saturated_core(f: &crate::lines::Foreground) -> bool {
+    f.kind == ForegroundKind::Telluric && f.strength >= TELLURIC_ABSORB_MIN
+}
+
 /// Telluric bands of the catalogue as ln(lambda) ranges, widened by `pad`
 /// (fraction of lambda).
 pub(crate) fn telluric_bands(catalogue: &Catalogue, pad: f64) -> Vec<(f64, f64)> {
     catalogue
         .foreground
         .iter()
-        .filter(|f| f.kind == ForegroundKind::Telluric && f.lo > 0.0 && f.hi >= f.lo)
+        .filter(|f| is_absorbing_band(f) && f.lo > 0.0 && f.hi >= f.lo)
         .map(|f| (f.lo.ln() - pad, f.hi.ln() + pad))
         .collect()
 }
