@@ -121,7 +121,8 @@ fn native_step(wave: &[f64]) -> f64 {
 }
 
 /// Pixels to ignore: masked, non-positive sigma, single-pixel spikes, and
-/// the neighbourhood of night-sky lines. Returns the native inverse variance.
+/// the neighbourhood of night-sky lines, telluric bands. Returns the native
+/// inverse variance.
 pub(crate) fn native_ivar(
     wave: &[f64],
     flux: &[f64],
@@ -165,15 +166,14 @@ pub(crate) fn native_ivar(
             let j = wave.partition_point(|&w| w < lam).clamp(1, n - 1);
             2.5 * (wave[j] - wave[j - 1])
         };
-        // Saturated telluric band cores too: there the atmosphere leaves
-        // little of the target's light, and a sharp band head pulls any
-        // local continuum down so that its edge looks like emission. The
-        // rest of a band keeps its weight: an emission line there is dimmed,
-        // not erased ([O II] of a galaxy at z ~ 1.5 sits in the 9300 A water
-        // band), and absorption there is kept out of the fits and the maps
-        // instead (see [`telluric_bands`]).
+        // Telluric bands at least `TELLURIC_ABSORB_MIN` strong too:
+        // absorption there is the atmosphere's, and a band pulls any local
+        // continuum down so that its edges look like emission. (Keeping the
+        // weight of the broad water bands for galaxies' narrow emission
+        // lines was tried: their edges then made false lines in smooth
+        // spectra, and the bench lost more than it gained.)
         for f in catalogue.foreground.iter().filter(|f| {
-            (f.kind == ForegroundKind::Sky && f.strength >= 0.2) || is_saturated_core(f)
+            (f.kind == ForegroundKind::Sky && f.strength >= 0.2) || is_absorbing_band(f)
         }) {
             let pad = if f.kind == ForegroundKind::Sky {
                 pad_of(f.lo).max(1.5)
@@ -393,22 +393,9 @@ pub(crate) fn star_window(vstep: f64) -> usize {
 /// judgement, not a published figure.
 pub(crate) const TELLURIC_ABSORB_MIN: f64 = 0.15;
 
-/// A saturated band core gives its pixels no weight: at least this strong
-/// and at most [`SATURATED_CORE_MAX_A`] wide (the O2 A and B band heads; the
-/// broad water bands are never saturated across their whole width).
-const SATURATED_CORE_MIN: f64 = 0.5;
-
-/// Widest band treated as a saturated core, Angstrom.
-const SATURATED_CORE_MAX_A: f64 = 60.0;
-
 /// Whether `f` is a telluric band strong enough that absorption inside it
 /// is the atmosphere's.
 pub(crate) fn is_absorbing_band(f: &crate::lines::Foreground) -> bool {
-    f.kind == ForegroundKind::Telluric && f.strength >= TELLURIC_ABSORB_MIN
-}
-
-/// Whether `f` is a saturated telluric band core (no weight at all).
-fn is_saturated_core(f: &crate::lines::Foreground) -> bool {
     f.kind == ForegroundKind::Telluric && f.strength >= TELLURIC_ABSORB_MIN
 }
 
