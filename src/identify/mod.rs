@@ -341,10 +341,15 @@ impl Identifier {
         // single line's.
         let mut narrower = sigma;
         narrower[redshift::Group::EmNarrow as usize] *= 0.55;
-        let sets: &[[f64; redshift::GROUPS]] = if h == Hypothesis::Star {
-            &[sigma]
-        } else {
-            &[sigma, narrower]
+        // A passive galaxy's absorption lines are broadened by its
+        // velocity dispersion far beyond the kernel of the emission lines:
+        // look also at wider absorption.
+        let mut wider = sigma;
+        wider[redshift::Group::AbNarrow as usize] *= 2.0;
+        let sets: &[[f64; redshift::GROUPS]] = match h {
+            Hypothesis::Star => &[sigma],
+            Hypothesis::Galaxy => &[sigma, narrower, wider],
+            Hypothesis::Qso => &[sigma, narrower],
         };
         match redshift::fit_at(&prep.native, &lines, s0, sets) {
             Some((fit, gain)) => (
@@ -596,6 +601,11 @@ impl Identifier {
                 .map(|(i, &(h, s, _))| (i, self.first_look(prep, h, s)))
                 .collect();
             looked.sort_by(|a, b| b.1.0.total_cmp(&a.1.0));
+            if std::env::var_os("ZSIFT_SEEDS").is_some() {
+                for (i, (g, sc)) in &looked {
+                    eprintln!("SEED {:?} z {:.5} gain {:.1} score {:.1}", seeds[*i].0, seeds[*i].1.exp() - 1.0, g, sc);
+                }
+            }
             let mut kept = vec![false; seeds.len()];
             for (h, k) in [
                 (Hypothesis::Galaxy, SEEDS_KEPT.0),
