@@ -95,11 +95,63 @@ fn find<'a>(cat: &Catalogue, lines: &'a [LineMeasure], name: &str) -> Option<&'a
 
 /// Whether a galaxy fit is in fact a star's: within stellar velocities
 /// (`|v| <= v_star`) and with nearly all its evidence in absorption (S/N^2
-/// of emission under 15% of that of absorption).
-pub(crate) fn looks_stellar(sc: &Scored, velocity_kms: f64, v_star: f64) -> bool {
-    sc.hypothesis == Hypothesis::Galaxy
-        && velocity_kms.abs() <= v_star
-        && snr_power(&sc.lines, |m| m.snr >= 3.0) < 0.15 * snr_power(&sc.lines, |m| m.snr <= -3.0)
+/// of emission under 15% of that of absorption), not counting, for an
+/// active star, its hydrogen emission (see [`active_star`]).
+pub(crate) fn looks_stellar(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_star: f64) -> bool {
+    if sc.hypothesis != Hypothesis::Galaxy || velocity_kms.abs() > v_star {
+        return false;
+    }
+    let absorption = snr_power(&sc.lines, |m| m.snr <= -3.0);
+    let hydrogen = |m: &LineMeasure| cat.lines.get(m.line).is_some_and(|l| l.species == "H I");
+    let emission = if active_star(cat, sc) {
+        snr_power(&sc.lines, |m| m.snr >= 3.0 && !hydrogen(m))
+    } else {
+        snr_power(&sc.lines, |m| m.snr >= 3.0)
+    };
+    emission < 0.15 * absorption
+}
+
+/// Hydrogen emission at least this significant, with no forbidden line at
+/// S/N 3, is a star's chromosphere rather than a galaxy's H II regions.
+const ACTIVE_STAR_BALMER_SNR: f64 = 10.0;
+
+/// Absorption at least this significant (summed S/N^2) for the test.
+const ACTIVE_STAR_ABSORPTION: f64 = 100.0;
+
+/// An active (flaring, chromospheric) star seen as a galaxy fit: strong
+/// hydrogen emission but no forbidden line at all, beside solid absorption.
+/// Gas in a galaxy that makes H-alpha at S/N 10 also makes [N II], [S II]
+/// or [O III] at S/N 3 or more: in the diagnostic diagrams (Baldwin,
+/// Phillips & Terlevich 1981; Kauffmann et al. 2003) galaxies lie at
+/// log [N II]/H-alpha above about -2, and where [N II] is that weak (metal-
+/// poor dwarfs) [O III] 5007 outshines H-beta (from memory). A stellar
+/// chromosphere has no forbidden lines. At least one of the strong
+/// forbidden lines must be inside the observed range to say so; a metal-
+/// poor dwarf galaxy within stellar velocities seen only in the red (its
+/// [O III] out of range) could still be called a star.
+fn active_star(cat: &Catalogue, sc: &Scored) -> bool {
+    let species = |m: &LineMeasure| cat.lines.get(m.line).map(|l| l.species.as_str());
+    let forbidden = |m: &LineMeasure| {
+        cat.lines
+            .get(m.line)
+            .is_some_and(|l| l.name.starts_with('[') && l.kind == crate::lines::LineKind::Emission)
+    };
+    let balmer = sc
+        .lines
+        .iter()
+        .filter(|m| species(m) == Some("H I"))
+        .map(|m| m.snr)
+        .fold(f64::NEG_INFINITY, f64::max);
+    let strong_forbidden = ["[N II] 6584", "[O III] 5007", "[S II] 6716", "[O II] 3729"];
+    let checked = sc.lines.iter().any(|m| {
+        cat.lines
+            .get(m.line)
+            .is_some_and(|l| strong_forbidden.contains(&l.name.as_str()))
+    });
+    balmer >= ACTIVE_STAR_BALMER_SNR
+        && checked
+        && !sc.lines.iter().any(|m| forbidden(m) && m.snr >= 3.0)
+        && snr_power(&sc.lines, |m| m.snr <= -3.0) >= ACTIVE_STAR_ABSORPTION
 }
 
 /// Class from the hypothesis and the evidence; subclass and derived values
@@ -112,7 +164,7 @@ pub(crate) fn classify(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_star: 
     // A "galaxy" within stellar velocities whose evidence is nearly all
     // absorption is a star (a noise bump fitted as weak emission does not
     // make it a galaxy).
-    if looks_stellar(sc, velocity_kms, v_star) {
+    if looks_stellar(cat, sc, velocity_kms, v_star) {
         class = ObjectClass::Star;
     }
     let mut subclass = None;

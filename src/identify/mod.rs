@@ -603,7 +603,13 @@ impl Identifier {
             looked.sort_by(|a, b| b.1.0.total_cmp(&a.1.0));
             if std::env::var_os("ZSIFT_SEEDS").is_some() {
                 for (i, (g, sc)) in &looked {
-                    eprintln!("SEED {:?} z {:.5} gain {:.1} score {:.1}", seeds[*i].0, seeds[*i].1.exp() - 1.0, g, sc);
+                    eprintln!(
+                        "SEED {:?} z {:.5} gain {:.1} score {:.1}",
+                        seeds[*i].0,
+                        seeds[*i].1.exp() - 1.0,
+                        g,
+                        sc
+                    );
                 }
             }
             let mut kept = vec![false; seeds.len()];
@@ -670,7 +676,7 @@ impl Identifier {
         // evidence.
         let v_star = self.settings.star_v_max_kms;
         for c in scored.iter_mut() {
-            if !classify::looks_stellar(c, velocity_of(c.s.exp() - 1.0), v_star) {
+            if !classify::looks_stellar(&self.catalogue, c, velocity_of(c.s.exp() - 1.0), v_star) {
                 continue;
             }
             if let Some(st) = self.refine(prep, Hypothesis::Star, c.s, 2.0 * g.step, None)
