@@ -601,17 +601,6 @@ impl Identifier {
                 .map(|(i, &(h, s, _))| (i, self.first_look(prep, h, s)))
                 .collect();
             looked.sort_by(|a, b| b.1.0.total_cmp(&a.1.0));
-            if std::env::var_os("ZSIFT_SEEDS").is_some() {
-                for (i, (g, sc)) in &looked {
-                    eprintln!(
-                        "SEED {:?} z {:.5} gain {:.1} score {:.1}",
-                        seeds[*i].0,
-                        seeds[*i].1.exp() - 1.0,
-                        g,
-                        sc
-                    );
-                }
-            }
             let mut kept = vec![false; seeds.len()];
             for (h, k) in [
                 (Hypothesis::Galaxy, SEEDS_KEPT.0),
