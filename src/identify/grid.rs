@@ -169,9 +169,10 @@ pub(crate) fn native_ivar(
         // Telluric bands at least `TELLURIC_ABSORB_MIN` strong too:
         // absorption there is the atmosphere's, and a band pulls any local
         // continuum down so that its edges look like emission. (Keeping the
-        // weight of the broad water bands for galaxies' narrow emission
-        // lines was tried: their edges then made false lines in smooth
-        // spectra, and the bench lost more than it gained.)
+        // weight of the bands, or of the broad water bands only, for
+        // galaxies' narrow emission lines was tried: band edges and the
+        // weaker night-sky lines there then made false lines in smooth and
+        // noise-only spectra, and the bench lost more than it gained.)
         for f in catalogue.foreground.iter().filter(|f| {
             (f.kind == ForegroundKind::Sky && f.strength >= 0.2) || is_absorbing_band(f)
         }) {
