@@ -373,10 +373,15 @@ impl Identifier {
         // A quasar's light blueward of its Lyman-alpha passes through the
         // forest: there the pixels scatter far beyond their noise, and the
         // absorbed blue wing of Lyman-alpha would pull z to the red.
+        // Other quasar solutions bluer than a recognised forest are fitted
+        // with the same forest weights, so their scores compare with its
+        // (an alias calling Lyman-alpha Mg II would else count the forest
+        // pixels at their bare noise).
         let weighted;
         let native = match h {
             Hypothesis::Qso => {
-                weighted = redshift::forest_weighted(&prep.native, s0);
+                let s_forest = forest_edge.map_or(s0, |e| (e - 1215.67f64.ln()).max(s0));
+                weighted = redshift::forest_weighted(&prep.native, s_forest);
                 weighted.as_ref().unwrap_or(&prep.native)
             }
             _ => &prep.native,
@@ -634,23 +639,28 @@ impl Identifier {
             .filter_map(|&(h, s, reach)| self.refine(prep, h, s, reach, None))
             .collect();
         // A recognised forest: absorption blueward of that quasar's
-        // Lyman-alpha cannot vote for other hypotheses.
+        // Lyman-alpha cannot vote for other hypotheses, and quasar
+        // solutions at lower z are fitted with its forest weights.
         let lya = 1215.67f64.ln();
-        if let Some(q) = scored
+        if let Some(q_s) = scored
             .iter()
             .filter(|c| {
                 c.hypothesis == Hypothesis::Qso
                     && c.notes.iter().any(|n| n.starts_with("Lyman-alpha forest"))
             })
             .max_by(|a, b| a.score.total_cmp(&b.score))
+            .map(|q| q.s)
         {
-            let edge = lya + q.s;
+            let edge = lya + q_s;
+            // Quasar solutions bluer than the forest's by more than the
+            // quasar z tolerance.
+            let bluer = |c: &Scored| c.s < q_s - FOREST_ALIAS_DS;
             let redo: Vec<(Hypothesis, f64)> = scored
                 .iter()
-                .filter(|c| c.hypothesis != Hypothesis::Qso)
+                .filter(|c| c.hypothesis != Hypothesis::Qso || bluer(c))
                 .map(|c| (c.hypothesis, c.s))
                 .collect();
-            scored.retain(|c| c.hypothesis == Hypothesis::Qso);
+            scored.retain(|c| c.hypothesis == Hypothesis::Qso && !bluer(c));
             for (h, s) in redo {
                 if let Some(c) = self.refine(prep, h, s, 0.5 * g.step, Some(edge)) {
                     scored.push(c);
@@ -882,6 +892,11 @@ fn nothing_found() -> Candidate {
 
 /// How many seeds of each hypothesis (galaxy, quasar, star) are refined.
 const SEEDS_KEPT: (usize, usize, usize) = (4, 4, 1);
+
+/// Quasar solutions this far below a recognised forest's ln(1+z) are
+/// other solutions, refitted with its forest weights (0.003 (1+z), the
+/// quasar z tolerance of the checks, as a step in ln(1+z)).
+const FOREST_ALIAS_DS: f64 = 0.003;
 
 /// The share of a stellar-looking galaxy fit's score that the star fit at
 /// the same place must reach to replace it.

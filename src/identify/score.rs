@@ -360,6 +360,10 @@ pub(crate) fn broad_dips(native: &Native, fit: &JointFit) -> Option<(f64, f64)> 
     Some((dips, bumps))
 }
 
+/// A recognised forest raises a quasar's score by this share of its depth
+/// (depth capped at 0.6). A judgement.
+const FOREST_SHARE: f64 = 0.5;
+
 /// Score a fit. `forest_edge`: when a quasar's forest has been recognised,
 /// the ln(lambda) below which absorption lines may not count for other
 /// hypotheses.
@@ -516,13 +520,22 @@ pub(crate) fn score(
             let depth = f.depth;
             forest = Some(depth);
             let forest_like = f.scatter > 0.1 && f.dips > 0.02;
-            if depth > 0.1 && depth > 3.0 * f.err && forest_like {
-                let bonus = (100.0 * depth).min(60.0);
-                score += bonus;
-                notes.push(format!(
-                    "Lyman-alpha forest, flux drop {:.0}%",
-                    100.0 * depth
-                ));
+            // A quasar's continuum rising to the blue can hide the drop of
+            // its median; scatter and dips this strong are the forest's
+            // whatever the median does.
+            let ragged = f.scatter > 0.15 && f.dips > 0.15 && f.red_snr > 5.0;
+            if (depth > 0.1 && depth > 3.0 * f.err && forest_like) || ragged {
+                // Additive for faint quasars, in proportion for bright
+                // ones, whose aliases (Lyman-alpha called Mg II) score
+                // within a fraction of a per cent of them.
+                let strength = depth.max(if ragged { f.scatter } else { 0.0 });
+                let bonus = (100.0 * strength).min(60.0);
+                score = (score + bonus) * (1.0 + FOREST_SHARE * strength.min(0.6));
+                notes.push(if depth > 0.1 {
+                    format!("Lyman-alpha forest, flux drop {:.0}%", 100.0 * depth)
+                } else {
+                    format!("Lyman-alpha forest, scatter {:.0}%", 100.0 * f.scatter)
+                });
             } else if f.scatter < 0.06 && f.red_snr > 5.0 {
                 // Blueward of Lyman-alpha a quasar's light passes through
                 // the intergalactic forest; smooth flux there is not that.
