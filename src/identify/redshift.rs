@@ -327,11 +327,18 @@ fn column_into(
     let a = native.lnw.partition_point(|&v| v < x - below);
     let b = native.lnw.partition_point(|&v| v <= x + above).max(a);
     vals.clear();
-    vals.extend(
-        native.lnw[a..b]
-            .iter()
-            .map(|&v| profile(group, v - x, widths)),
-    );
+    let span = &native.lnw[a..b];
+    match group {
+        Group::Band => vals.extend(span.iter().map(|&v| profile(group, v - x, widths))),
+        g => {
+            // The Gaussian of `profile`, with the group's width read once.
+            let w = widths[g as usize];
+            vals.extend(span.iter().map(|&v| {
+                let t = (v - x) / w;
+                exp_fast(-0.5 * t * t)
+            }));
+        }
+    }
     a
 }
 
@@ -658,20 +665,32 @@ fn solve_cluster(
     full_m.resize(nc * nc, 0.0);
     for (p, &i) in cluster.iter().enumerate() {
         let (ai, vi) = &cols[i];
-        for (t, g) in vi.iter().enumerate() {
-            let px = ai + t;
-            let w = native.ivar[px];
-            if w > 0.0 {
-                full_b[p] += w * (native.flux[px] - base[px]) * g;
+        let (ai, n) = (*ai, vi.len());
+        let (w, f, c) = (
+            &native.ivar[ai..ai + n],
+            &native.flux[ai..ai + n],
+            &base[ai..ai + n],
+        );
+        let mut bp = 0.0;
+        for t in 0..n {
+            if w[t] > 0.0 {
+                bp += w[t] * (f[t] - c[t]) * vi[t];
             }
         }
+        full_b[p] = bp;
         for (q, &j) in cluster.iter().enumerate().take(p + 1) {
             let (aj, vj) = &cols[j];
-            let lo = (*ai).max(*aj);
-            let hi = (ai + vi.len()).min(aj + vj.len());
+            let aj = *aj;
+            let lo = ai.max(aj);
+            let hi = (ai + n).min(aj + vj.len());
             let mut sum = 0.0;
-            for px in lo..hi {
-                sum += native.ivar[px] * vi[px - ai] * vj[px - aj];
+            if hi > lo {
+                let w = &native.ivar[lo..hi];
+                let gi = &vi[lo - ai..hi - ai];
+                let gj = &vj[lo - aj..hi - aj];
+                for t in 0..hi - lo {
+                    sum += w[t] * gi[t] * gj[t];
+                }
             }
             full_m[p * nc + q] = sum;
             full_m[q * nc + p] = sum;
