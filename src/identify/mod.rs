@@ -11,6 +11,7 @@ pub mod continuum;
 pub mod detect;
 pub mod fit;
 pub mod noise;
+pub mod ripple;
 
 use crate::lines::{Catalogue, ForegroundKind, LineKind, ObjectClass, Width};
 use crate::spectrum::Spectrum;
@@ -490,7 +491,7 @@ impl Identifier {
 
     /// Analyse one spectrum: noise, continuum, features, ranked candidates.
     pub fn analyse(&self, spectrum: &Spectrum) -> Analysis {
-        let (sigma, mut noise) =
+        let (sigma, noise) =
             noise::estimate(&spectrum.flux, spectrum.sigma.as_deref(), &spectrum.mask);
         let mut warnings = Vec::new();
         if let Some(r) = noise.error_ratio
@@ -500,6 +501,32 @@ impl Identifier {
                 "the file's uncertainties differ from the scatter by a factor {r:.2}"
             ));
         }
+        match ripple_corrected(spectrum, &sigma) {
+            None => self.analyse_with(spectrum, sigma, noise, warnings),
+            Some((fixed, fixed_sigma, factor, note)) => {
+                warnings.push(note);
+                let mut an = self.analyse_with(&fixed, fixed_sigma, noise, warnings);
+                // Back in the file's frame: the continuum carries the
+                // ripple, so a plot of the file's flux shows what was
+                // taken for it.
+                for (c, g) in an.continuum.iter_mut().zip(&factor) {
+                    *c *= g;
+                }
+                an.sigma = sigma;
+                an
+            }
+        }
+    }
+
+    /// [`Identifier::analyse`] once the noise is known and any ripple is
+    /// divided out.
+    fn analyse_with(
+        &self,
+        spectrum: &Spectrum,
+        sigma: Vec<f64>,
+        mut noise: Noise,
+        mut warnings: Vec<String>,
+    ) -> Analysis {
         let Some(prep) = self.prepare(spectrum, &sigma, true) else {
             warnings.push("too few usable pixels to analyse".to_string());
             return Analysis {
@@ -793,6 +820,12 @@ impl Identifier {
         } else {
             noise::estimate(&spectrum.flux, spectrum.sigma.as_deref(), &spectrum.mask).0
         };
+        // The same ripple correction as the analysis.
+        let fixed = ripple_corrected(spectrum, &sigma);
+        let (spectrum, sigma) = match &fixed {
+            Some((f, s, _, _)) => (f, s.clone()),
+            None => (spectrum, sigma),
+        };
         let Some(prep) = self.prepare(spectrum, &sigma, false) else {
             return nothing_found();
         };
@@ -822,6 +855,43 @@ impl Identifier {
         link_features(&mut one, &analysis.features);
         one.pop().unwrap_or_else(nothing_found)
     }
+}
+
+/// A spectrum with its flux-calibration ripples divided out (see
+/// [`ripple`]): the corrected spectrum, its sigma, the per-pixel factor
+/// divided out, and a warning saying so; `None` when there is no ripple.
+fn ripple_corrected(
+    spectrum: &Spectrum,
+    sigma: &[f64],
+) -> Option<(Spectrum, Vec<f64>, Vec<f64>, String)> {
+    let ripples = ripple::find(&spectrum.wave, &spectrum.flux, sigma, &spectrum.mask);
+    if ripples.is_empty() {
+        return None;
+    }
+    let factor: Vec<f64> = spectrum
+        .wave
+        .iter()
+        .map(|&l| ripples.iter().map(|r| r.factor(l)).product::<f64>())
+        .collect();
+    let mut fixed = spectrum.clone();
+    let mut fixed_sigma = sigma.to_vec();
+    for (i, &g) in factor.iter().enumerate() {
+        if g > 0.1 {
+            fixed.flux[i] /= g;
+            fixed_sigma[i] /= g;
+            if let Some(s) = fixed.sigma.as_mut() {
+                s[i] /= g;
+            }
+        } else {
+            fixed.mask[i] = false;
+        }
+    }
+    let what: Vec<String> = ripples
+        .iter()
+        .map(|r| format!("period {:.0} A, {:.1}%", r.period, 100.0 * r.amplitude()))
+        .collect();
+    let note = format!("flux-calibration ripple divided out ({})", what.join("; "));
+    Some((fixed, fixed_sigma, factor, note))
 }
 
 /// Point each match at the detected feature it corresponds to: same kind,
