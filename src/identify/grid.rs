@@ -257,6 +257,153 @@ pub(crate) fn resample(wave: &[f64], flux: &[f64], ivar: &[f64]) -> Option<LogGr
     })
 }
 
+/// Width (km/s) of each of the four windows a continuum step is judged
+/// over: two on each side.
+const STEP_WINDOW_KMS: f64 = 8000.0;
+/// Smallest step, as a share of the higher level.
+const STEP_MIN_SHARE: f64 = 0.12;
+/// Smallest step in errors of the window medians.
+const STEP_MIN_SIGMA: f64 = 8.0;
+/// Each side must be flat to this share of the step.
+const STEP_FLATNESS: f64 = 0.35;
+/// At most this many steps are cut.
+const STEPS_MAX: usize = 3;
+
+/// Sharp, sustained jumps of the continuum (a 4000 A break, a Balmer jump,
+/// a join between two spectrograph arms): indices where the flux level
+/// changes by at least [`STEP_MIN_SHARE`] and stays changed, flat on each
+/// side over two windows of [`STEP_WINDOW_KMS`]. A line rises and falls
+/// within its width, so its sides are not both flat. `vstep` is the grid's
+/// step in km/s. A running continuum would smear a step over its window and
+/// make a broad "line" of it; the continua are estimated on each side apart.
+pub(crate) fn steps(flux: &[f64], ivar: &[f64], vstep: f64) -> Vec<usize> {
+    let n = flux.len();
+    let w = (STEP_WINDOW_KMS / vstep).round() as usize;
+    if w < 8 || n < 4 * w + 2 {
+        return Vec::new();
+    }
+    let mut scratch = Vec::with_capacity(w);
+    let mut med = |a: usize, b: usize| -> Option<(f64, f64)> {
+        scratch.clear();
+        let mut sig = 0.0;
+        for i in a..b {
+            if ivar[i] > 0.0 {
+                scratch.push(flux[i]);
+                sig += 1.0 / ivar[i].sqrt();
+            }
+        }
+        let m = scratch.len();
+        if m < (b - a) / 2 || m < 4 {
+            return None;
+        }
+        let k = m / 2;
+        scratch.select_nth_unstable_by(k, f64::total_cmp);
+        // Noise of a median: 1.25 sigma / sqrt(N).
+        Some((scratch[k], 1.25 * sig / m as f64 / (m as f64).sqrt()))
+    };
+    let stride = (w / 4).max(1);
+    // (index, |jump| / level) of accepted positions.
+    let mut hits: Vec<(usize, f64)> = Vec::new();
+    let mut i = 2 * w;
+    while i + 2 * w <= n {
+        let (Some((l2, _)), Some((l1, e1)), Some((r1, e2)), Some((r2, _))) = (
+            med(i - 2 * w, i - w),
+            med(i - w, i),
+            med(i, i + w),
+            med(i + w, i + 2 * w),
+        ) else {
+            i += stride;
+            continue;
+        };
+        let jump = r1 - l1;
+        let level = l1.max(r1);
+        let flat = |a: f64, b: f64| (a - b).abs() <= STEP_FLATNESS * jump.abs();
+        // Farther out (where the spectrum reaches): a broad line as wide
+        // as two windows would look flat over those, but not over three.
+        let far_l = (i >= 3 * w)
+            .then(|| med(i - 3 * w, i - 2 * w))
+            .flatten()
+            .is_none_or(|(l3, _)| flat(l3, l1));
+        let far_r = (i + 3 * w <= n)
+            .then(|| med(i + 2 * w, i + 3 * w))
+            .flatten()
+            .is_none_or(|(r3, _)| flat(r3, r1));
+        if level > 0.0
+            && jump.abs() >= STEP_MIN_SHARE * level
+            && jump.abs() >= STEP_MIN_SIGMA * e1.hypot(e2)
+            && flat(l1, l2)
+            && flat(r1, r2)
+            && far_l
+            && far_r
+        {
+            hits.push((i, jump.abs() / level));
+        }
+        i += stride;
+    }
+    // One step per run of neighbouring hits (the strongest), placed where
+    // short windows either side differ most.
+    let mut out: Vec<usize> = Vec::new();
+    let mut k = 0;
+    while k < hits.len() {
+        let mut e = k;
+        while e + 1 < hits.len() && hits[e + 1].0 <= hits[e].0 + w {
+            e += 1;
+        }
+        let centre = hits[k..=e]
+            .iter()
+            .max_by(|a, b| a.1.total_cmp(&b.1))
+            .map(|h| h.0)
+            .unwrap_or(hits[k].0);
+        let sw = (w / 8).max(3);
+        let js: Vec<(usize, f64)> = (centre.saturating_sub(w / 2).max(sw)
+            ..(centre + w / 2).min(n - sw))
+            .filter_map(|j| match (med(j - sw, j), med(j, j + sw)) {
+                (Some((a, _)), Some((b, _))) => Some((j, (b - a).abs())),
+                _ => None,
+            })
+            .collect();
+        // The middle of the positions that differ most (a clean step
+        // differs equally over a few positions around it).
+        let top = js.iter().map(|p| p.1).fold(f64::NEG_INFINITY, f64::max);
+        let near: Vec<usize> = js
+            .iter()
+            .filter(|p| p.1 >= top - 1e-9 * top.abs())
+            .map(|p| p.0)
+            .collect();
+        let at = near.get(near.len() / 2).copied().unwrap_or(centre);
+        if out.last().is_none_or(|&l| at >= l + w) && at >= w && at + w <= n {
+            out.push(at);
+        }
+        k = e + 1;
+    }
+    if out.len() > STEPS_MAX {
+        return Vec::new();
+    }
+    out
+}
+
+/// [`running_continuum`] on each stretch between the `cuts` apart.
+pub(crate) fn running_continuum_cut(
+    flux: &[f64],
+    ivar: &[f64],
+    win: usize,
+    cuts: &[usize],
+) -> Vec<f64> {
+    if cuts.is_empty() {
+        return running_continuum(flux, ivar, win);
+    }
+    let mut out = Vec::with_capacity(flux.len());
+    let mut a = 0;
+    for &c in cuts.iter().chain(std::iter::once(&flux.len())) {
+        let c = c.clamp(a, flux.len());
+        if c > a {
+            out.extend(running_continuum(&flux[a..c], &ivar[a..c], win));
+        }
+        a = c;
+    }
+    out
+}
+
 /// Robust running continuum: medians of good pixels in windows of `win`
 /// pixels on nodes half a window apart, each placed at the mean position of
 /// its pixels, linearly interpolated (and extrapolated at the ends); then
@@ -419,7 +566,8 @@ pub(crate) fn build_maps(grid: &mut LogGrid, bands: &[(f64, f64)]) {
     let vstep = grid.step * C_KM_S;
     let win_n = (NARROW_WINDOW_KMS / vstep).round() as usize;
     let win_b = (BROAD_WINDOW_KMS / vstep).round() as usize;
-    grid.cont_narrow = running_continuum(&grid.flux, &grid.ivar, win_n);
+    let cuts = steps(&grid.flux, &grid.ivar, vstep);
+    grid.cont_narrow = running_continuum_cut(&grid.flux, &grid.ivar, win_n, &cuts);
     // Broad continuum from flux with narrow features replaced by the narrow
     // continuum, so broad lines are measured without narrow ones on top.
     let clean: Vec<f64> = (0..n)
@@ -432,8 +580,8 @@ pub(crate) fn build_maps(grid: &mut LogGrid, bands: &[(f64, f64)]) {
             }
         })
         .collect();
-    grid.cont_broad = running_continuum(&clean, &grid.ivar, win_b);
-    grid.cont_star = running_continuum(&grid.flux, &grid.ivar, star_window(vstep));
+    grid.cont_broad = running_continuum_cut(&clean, &grid.ivar, win_b, &cuts);
+    grid.cont_star = running_continuum_cut(&grid.flux, &grid.ivar, star_window(vstep), &cuts);
 
     let w = &grid.ivar;
     let wr_n: Vec<f64> = (0..n)
@@ -502,6 +650,27 @@ pub(crate) fn build_maps(grid: &mut LogGrid, bands: &[(f64, f64)]) {
 
 #[cfg(test)]
 mod tests {
+
+    #[test]
+    fn a_sharp_step_is_cut_where_it_is_and_a_broad_line_is_not() {
+        // 3000 pixels of 50 km/s; unit continuum, sigma 0.02 (synthetic).
+        let n = 3000;
+        let ivar = vec![2500.0; n];
+        let step: Vec<f64> = (0..n).map(|i| if i < 1700 { 0.6 } else { 1.0 }).collect();
+        let cuts = steps(&step, &ivar, 50.0);
+        assert_eq!(cuts.len(), 1, "{cuts:?}");
+        assert!((cuts[0] as i64 - 1700).abs() <= 2, "{cuts:?}");
+        // A broad emission line, FWHM 10,000 km/s (200 px), twice the
+        // continuum at its peak.
+        let line: Vec<f64> = (0..n)
+            .map(|i| 1.0 + (-0.5 * ((i as f64 - 1500.0) / 85.0).powi(2)).exp())
+            .collect();
+        assert!(steps(&line, &ivar, 50.0).is_empty());
+        // The continuum cut there follows both levels.
+        let c = running_continuum_cut(&step, &ivar, 120, &cuts);
+        assert!((c[1690] - 0.6).abs() < 0.01 && (c[1710] - 1.0).abs() < 0.01);
+    }
+
     use super::*;
 
     #[test]

@@ -297,7 +297,9 @@ impl Identifier {
             grid::build_maps(&mut g, &telluric);
         } else {
             let v = g.step * crate::physics::constants::C_KM_S;
-            g.cont_narrow = grid::running_continuum(&g.flux, &g.ivar, (6000.0 / v) as usize);
+            let cuts = grid::steps(&g.flux, &g.ivar, v);
+            g.cont_narrow =
+                grid::running_continuum_cut(&g.flux, &g.ivar, (6000.0 / v) as usize, &cuts);
             g.cont_broad = g.cont_narrow.clone();
             let clean: Vec<f64> = (0..g.len())
                 .map(|i| {
@@ -308,8 +310,10 @@ impl Identifier {
                     }
                 })
                 .collect();
-            g.cont_broad = grid::running_continuum(&clean, &g.ivar, (45_000.0 / v) as usize);
-            g.cont_star = grid::running_continuum(&g.flux, &g.ivar, grid::star_window(v));
+            g.cont_broad =
+                grid::running_continuum_cut(&clean, &g.ivar, (45_000.0 / v) as usize, &cuts);
+            g.cont_star =
+                grid::running_continuum_cut(&g.flux, &g.ivar, grid::star_window(v), &cuts);
         }
         let lnw: Vec<f64> = spectrum.wave.iter().map(|w| w.ln()).collect();
         let at =
