@@ -101,7 +101,7 @@ impl Bins {
         }
         let (lo, hi) = (wave[0], wave[n - 1]);
         let span = hi - lo;
-        if !(span > 0.0) || span / CYCLES_MIN < 1.5 * PERIOD_MIN_A {
+        if span.is_nan() || span <= 0.0 || span / CYCLES_MIN < 1.5 * PERIOD_MIN_A {
             return None;
         }
         let px = span / (n - 1) as f64;
@@ -114,7 +114,7 @@ impl Bins {
         let mut swf = vec![0.0; nb];
         for i in 0..n {
             let s = sigma[i];
-            if !mask[i] || !(s > 0.0) || !s.is_finite() || !flux[i].is_finite() {
+            if !mask[i] || s.is_nan() || s <= 0.0 || !s.is_finite() || !flux[i].is_finite() {
                 continue;
             }
             let k = (((wave[i] - lo) / width) as usize).min(nb - 1);
@@ -283,7 +283,7 @@ fn fit_sinusoid(
         c = c2;
     }
     let det = cc * ss - cs * cs;
-    if !(det > 0.0) || !(det > 1e-12 * cc * ss) {
+    if det.is_nan() || det <= 1e-12 * cc * ss || det <= 0.0 {
         return None;
     }
     let a = (rc * ss - rs * cs) / det;
