@@ -968,9 +968,10 @@ fn nothing_found() -> Candidate {
 const SEEDS_KEPT: (usize, usize, usize) = (4, 4, 1);
 
 /// Quasar solutions this far below a recognised forest's ln(1+z) are
-/// other solutions, refitted with its forest weights (0.003 (1+z), the
-/// quasar z tolerance of the checks, as a step in ln(1+z)).
-const FOREST_ALIAS_DS: f64 = 0.003;
+/// other solutions (aliases: Lyman-alpha taken for Mg II is 0.83 away),
+/// refitted with its forest weights. Nearer ones are the same solution,
+/// whose own forest edge is the better one (15,000 km/s; a judgement).
+const FOREST_ALIAS_DS: f64 = 0.05;
 
 /// The share of a stellar-looking galaxy fit's score that the star fit at
 /// the same place must reach to replace it.
