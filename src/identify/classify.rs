@@ -111,17 +111,23 @@ pub(crate) fn looks_stellar(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_s
     emission < 0.15 * absorption
 }
 
-/// Hydrogen emission at least this significant, with no forbidden line at
-/// S/N 3, is a star's chromosphere rather than a galaxy's H II regions.
+/// Hydrogen emission at least this significant, with no forbidden line of
+/// note, is a star's chromosphere rather than a galaxy's H II regions.
 const ACTIVE_STAR_BALMER_SNR: f64 = 10.0;
+
+/// Forbidden lines below this share of the hydrogen line's S/N (or S/N 3)
+/// are noise or misfits beside a bright chromospheric H-alpha: a galaxy's
+/// gas shows [N II] at 0.1 of H-alpha or more, or [O III] 5007 above
+/// H-beta (from memory, the diagnostic diagrams cited below).
+const ACTIVE_STAR_FORBIDDEN_SHARE: f64 = 0.15;
 
 /// Absorption at least this significant (summed S/N^2) for the test.
 const ACTIVE_STAR_ABSORPTION: f64 = 100.0;
 
 /// An active (flaring, chromospheric) star seen as a galaxy fit: strong
-/// hydrogen emission but no forbidden line at all, beside solid absorption.
-/// Gas in a galaxy that makes H-alpha at S/N 10 also makes [N II], [S II]
-/// or [O III] at S/N 3 or more: in the diagnostic diagrams (Baldwin,
+/// hydrogen emission but no forbidden line of note, beside solid
+/// absorption. Gas in a galaxy that makes H-alpha at S/N 10 also makes
+/// [N II], [S II] or [O III] at S/N 3 or more: in the diagnostic diagrams (Baldwin,
 /// Phillips & Terlevich 1981; Kauffmann et al. 2003) galaxies lie at
 /// log [N II]/H-alpha above about -2, and where [N II] is that weak (metal-
 /// poor dwarfs) [O III] 5007 outshines H-beta (from memory). A stellar
@@ -150,7 +156,10 @@ fn active_star(cat: &Catalogue, sc: &Scored) -> bool {
     });
     balmer >= ACTIVE_STAR_BALMER_SNR
         && checked
-        && !sc.lines.iter().any(|m| forbidden(m) && m.snr >= 3.0)
+        && !sc
+            .lines
+            .iter()
+            .any(|m| forbidden(m) && m.snr >= (ACTIVE_STAR_FORBIDDEN_SHARE * balmer).max(3.0))
         && snr_power(&sc.lines, |m| m.snr <= -3.0) >= ACTIVE_STAR_ABSORPTION
 }
 

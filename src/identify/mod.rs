@@ -683,8 +683,8 @@ impl Identifier {
             .map(|q| q.s)
         {
             let edge = lya + q_s;
-            // Quasar solutions bluer than the forest's by more than the
-            // quasar z tolerance.
+            // Quasar solutions more than `FOREST_ALIAS_DS` bluer than the
+            // forest's: other solutions, not this one.
             let bluer = |c: &Scored| c.s < q_s - FOREST_ALIAS_DS;
             let redo: Vec<(Hypothesis, f64)> = scored
                 .iter()
