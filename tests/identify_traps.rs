@@ -236,3 +236,28 @@ fn passive_galaxies_with_a_sharp_4000_a_break_keep_their_redshifts() {
     }
     assert!(right >= 27, "{right} of 30 right; misses {misses:?}");
 }
+
+#[test]
+fn rippled_junk_of_the_demo_night_is_unknown_with_both_ripples_named() {
+    // Target 21 of the invented demo night: junk with two calibration
+    // ripples of close periods (237 and 263 A), which beat across the
+    // spectrum. Fitted one at a time neither looked the same in each third
+    // and the spectrum was called a star; fitted together both are found.
+    let path =
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo/21_CVO0921-1152_text.txt");
+    let s =
+        zsift::spectrum::read(&path, &zsift::spectrum::ReadOptions::default()).expect("demo file");
+    let a = identifier().analyse(&s);
+    assert_eq!(
+        a.candidates[0].class,
+        ObjectClass::Unknown,
+        "{}",
+        a.candidates[0].reason
+    );
+    let note = a
+        .warnings
+        .iter()
+        .find(|w| w.contains("ripple divided out"))
+        .expect("a ripple warning");
+    assert_eq!(note.matches("period").count(), 2, "{note}");
+}
