@@ -102,13 +102,17 @@ pub(crate) fn looks_stellar(cat: &Catalogue, sc: &Scored, velocity_kms: f64, v_s
         return false;
     }
     let absorption = snr_power(&sc.lines, |m| m.snr <= -3.0);
-    let hydrogen = |m: &LineMeasure| cat.lines.get(m.line).is_some_and(|l| l.species == "H I");
     let emission = if active_star(cat, sc) {
-        snr_power(&sc.lines, |m| m.snr >= 3.0 && !hydrogen(m))
+        snr_power(&sc.lines, |m| m.snr >= 3.0 && !is_hydrogen(cat, m))
     } else {
         snr_power(&sc.lines, |m| m.snr >= 3.0)
     };
     emission < 0.15 * absorption
+}
+
+/// Whether a measured line is one of hydrogen's.
+fn is_hydrogen(cat: &Catalogue, m: &LineMeasure) -> bool {
+    cat.lines.get(m.line).is_some_and(|l| l.species == "H I")
 }
 
 /// Hydrogen emission at least this significant, with no forbidden line of
@@ -136,7 +140,6 @@ const ACTIVE_STAR_ABSORPTION: f64 = 100.0;
 /// poor dwarf galaxy within stellar velocities seen only in the red (its
 /// [O III] out of range) could still be called a star.
 fn active_star(cat: &Catalogue, sc: &Scored) -> bool {
-    let species = |m: &LineMeasure| cat.lines.get(m.line).map(|l| l.species.as_str());
     let forbidden = |m: &LineMeasure| {
         cat.lines
             .get(m.line)
@@ -145,7 +148,7 @@ fn active_star(cat: &Catalogue, sc: &Scored) -> bool {
     let balmer = sc
         .lines
         .iter()
-        .filter(|m| species(m) == Some("H I"))
+        .filter(|m| is_hydrogen(cat, m))
         .map(|m| m.snr)
         .fold(f64::NEG_INFINITY, f64::max);
     let strong_forbidden = ["[N II] 6584", "[O III] 5007", "[S II] 6716", "[O II] 3729"];

@@ -847,7 +847,7 @@ impl Work {
 /// Solve `A x = b` in place for symmetric positive definite `A` (row-major,
 /// `m x m`, overwritten by its Cholesky factor). Returns false when `A` is
 /// not positive definite (to working precision).
-fn cholesky_solve(a: &mut [f64], b: &mut [f64], m: usize) -> bool {
+pub(crate) fn cholesky_solve(a: &mut [f64], b: &mut [f64], m: usize) -> bool {
     if !cholesky(a, m) {
         return false;
     }

@@ -650,6 +650,7 @@ pub(crate) fn build_maps(grid: &mut LogGrid, bands: &[(f64, f64)]) {
 
 #[cfg(test)]
 mod tests {
+    use super::*;
 
     #[test]
     fn a_sharp_step_is_cut_where_it_is_and_a_broad_line_is_not() {
@@ -670,8 +671,6 @@ mod tests {
         let c = running_continuum_cut(&step, &ivar, 120, &cuts);
         assert!((c[1690] - 0.6).abs() < 0.01 && (c[1710] - 1.0).abs() < 0.01);
     }
-
-    use super::*;
 
     #[test]
     fn resampling_keeps_a_flat_spectrum_flat_and_its_information() {

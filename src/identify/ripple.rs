@@ -431,37 +431,10 @@ fn smooth(x: &[f64], f: &[f64], w: &[f64]) -> Option<Vec<f64>> {
     Some(model)
 }
 
-/// Gaussian elimination with partial pivoting for a small dense system.
+/// Solve the symmetric positive definite normal equations `a x = b` (both
+/// overwritten) with the project's Cholesky solver; `None` when singular.
 fn solve(a: &mut [f64], b: &mut [f64], m: usize) -> Option<Vec<f64>> {
-    for col in 0..m {
-        let piv =
-            (col..m).max_by(|&i, &j| a[i * m + col].abs().total_cmp(&a[j * m + col].abs()))?;
-        if a[piv * m + col].abs() < 1e-300 {
-            return None;
-        }
-        if piv != col {
-            for k in 0..m {
-                a.swap(piv * m + k, col * m + k);
-            }
-            b.swap(piv, col);
-        }
-        for i in col + 1..m {
-            let q = a[i * m + col] / a[col * m + col];
-            for k in col..m {
-                a[i * m + k] -= q * a[col * m + k];
-            }
-            b[i] -= q * b[col];
-        }
-    }
-    let mut x = vec![0.0; m];
-    for i in (0..m).rev() {
-        let mut s = b[i];
-        for k in i + 1..m {
-            s -= a[i * m + k] * x[k];
-        }
-        x[i] = s / a[i * m + i];
-    }
-    Some(x)
+    super::fit::cholesky_solve(a, b, m).then(|| b.to_vec())
 }
 
 #[cfg(test)]
