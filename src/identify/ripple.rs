@@ -45,6 +45,10 @@ impl Ripple {
     }
 }
 
+// The thresholds below are judgements (no published source), chosen on
+// the synthetic bench sets so that real lines and bands are not taken for
+// ripples.
+
 /// Shortest period searched, Angstrom.
 const PERIOD_MIN_A: f64 = 60.0;
 /// The longest period searched is the span divided by this (at least this
