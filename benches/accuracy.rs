@@ -4,6 +4,7 @@
 //! ```text
 //! cargo bench --bench accuracy                       # 400 spectra, tables and timing
 //! cargo bench --bench accuracy -- --n 1000 --seed 7  # another set
+//! cargo bench --bench accuracy -- --snr 300           # every spectrum of the set at S/N 300
 //! cargo bench --bench accuracy -- --write DIR        # write the set + manifest.csv only
 //! cargo bench --bench accuracy -- --failures          # each miss with its top three candidates
 //! ZSIFT_DETAIL=19 cargo bench --bench accuracy       # case 19 in full: truth lines, matches, the fit at the true z
@@ -31,6 +32,7 @@ struct Args {
     read: Option<PathBuf>,
     out: Option<PathBuf>,
     failures: bool,
+    snr: Option<f64>,
 }
 
 fn args() -> Args {
@@ -41,6 +43,7 @@ fn args() -> Args {
         read: None,
         out: None,
         failures: false,
+        snr: None,
     };
     let v: Vec<String> = std::env::args().skip(1).collect();
     let mut i = 0;
@@ -68,6 +71,10 @@ fn args() -> Args {
                 i += 1;
             }
             "--failures" => a.failures = true,
+            "--snr" => {
+                a.snr = Some(next(i).parse().expect("--snr takes a number"));
+                i += 1;
+            }
             _ => {} // `cargo bench` passes --bench; ignore what we do not know
         }
         i += 1;
@@ -197,9 +204,19 @@ fn main() {
         return;
     }
 
-    let cases = set::plan(a.n, a.seed);
+    let mut cases = set::plan(a.n, a.seed);
+    if let Some(snr) = a.snr {
+        // The bright end (standards, bright stars and galaxies), beyond the
+        // plan's S/N 3-50.
+        for c in &mut cases {
+            c.spec.snr = snr;
+        }
+    }
+    let snr_range = a
+        .snr
+        .map_or_else(|| "S/N 3-50".to_string(), |s| format!("S/N {s}"));
     println!(
-        "{} synthetic spectra (seed {}), every class, S/N 3-50, every layout, air and vacuum",
+        "{} synthetic spectra (seed {}), every class, {snr_range}, every layout, air and vacuum",
         cases.len(),
         a.seed
     );

@@ -1042,12 +1042,17 @@ impl JointFit {
 
     /// The share of the lines' summed S/N^2 in the stellar hydrogen group.
     pub(crate) fn hydrogen_share(&self) -> f64 {
+        self.group_share(Group::AbHydrogen)
+    }
+
+    /// The share of the lines' summed S/N^2 in `group`.
+    fn group_share(&self, group: Group) -> f64 {
         let (mut h, mut all) = (0.0, 0.0);
         for (i, l) in self.lines.iter().enumerate() {
             if self.amp_err[i] > 0.0 {
                 let p = (self.amp[i] / self.amp_err[i]).powi(2);
                 all += p;
-                if l.group == Group::AbHydrogen {
+                if l.group == group {
                     h += p;
                 }
             }
