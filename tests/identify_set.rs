@@ -8,7 +8,9 @@
 //! spectra) the measured rates were z 84/104, class 86/104 on 2026-12-01
 //! and z 86/104, class 86/104 on 2026-12-02 (session 3), z 90/104, class
 //! 91/104 later that day, z 91/104, class 93/104 on 2026-12-04 and, with
-//! more night-sky lines masked, z 90/104, class 92/104 the same day.
+//! more night-sky lines masked, z 90/104, class 92/104 the same day; with
+//! blurred band heads, a noise floor and a broad-line equivalent-width
+//! floor, z 92/104, class 95/104 (session 6, also 2026-12-04).
 //! The floors sit four spectra below, for floating-point differences between
 //! machines. Raise them as the identifier improves.
 
@@ -43,7 +45,7 @@ fn a_seeded_set_of_every_class_meets_the_regression_floors() {
     println!("{}", set::table(&outcomes));
     println!("{}", set::kind_table(&outcomes));
     assert!(
-        z_ok >= 86 && class_ok >= 88,
+        z_ok >= 88 && class_ok >= 91,
         "z right {z_ok}/104, class right {class_ok}/104\n{}",
         set::table(&outcomes)
     );
